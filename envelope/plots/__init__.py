@@ -1,0 +1,1 @@
+"""Figures (matplotlib, Agg). One module per kind of figure; all use `plots.common`."""

@@ -1,0 +1,62 @@
+"""Shared look of every figure: colour maps, colour bars in °C, saving PNGs.
+
+Colour maps are matplotlib's perceptually uniform maps under their matplotlib names.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import numpy as np  # noqa: E402
+
+TEMPERATURE_CMAP = "inferno"
+"""Surface temperature maps [°C]."""
+FACTOR_CMAP = "viridis"
+"""Temperature-factor (fRsi) and U maps."""
+DPI = 110
+
+
+def robust_limits(values, lo_pct: float = 1.0, hi_pct: float = 99.0) -> tuple[float, float]:
+    """Colour limits from percentiles of the finite values (robust to dead pixels)."""
+    v = np.asarray(values, dtype=float)
+    v = v[np.isfinite(v)]
+    if v.size == 0:
+        return 0.0, 1.0
+    lo, hi = np.percentile(v, [lo_pct, hi_pct])
+    if hi <= lo:
+        hi = lo + 1.0
+    return float(lo), float(hi)
+
+
+def image_axes(image, *, cmap=TEMPERATURE_CMAP, label="Surface temperature [°C]", title=None,
+               vmin=None, vmax=None, figsize=(7.0, 5.4)):
+    """A figure with `image` shown in pixel coordinates and a labelled colour bar.
+
+    Returns ``(fig, ax)``.
+    """
+    if vmin is None or vmax is None:
+        lo, hi = robust_limits(image)
+        vmin = lo if vmin is None else vmin
+        vmax = hi if vmax is None else vmax
+    fig, ax = plt.subplots(figsize=figsize, dpi=DPI)
+    im = ax.imshow(image, cmap=cmap, vmin=vmin, vmax=vmax, interpolation="nearest")
+    cbar = fig.colorbar(im, ax=ax, fraction=0.046, pad=0.03)
+    cbar.set_label(label)
+    ax.set_xlabel("x [px]")
+    ax.set_ylabel("y [px]")
+    if title:
+        ax.set_title(title)
+    return fig, ax
+
+
+def save(fig, path: str | Path) -> Path:
+    """Save `fig` as PNG at `path` (parents created) and close it."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fig.savefig(path, dpi=DPI, bbox_inches="tight", metadata={"Software": None})
+    plt.close(fig)
+    return path
