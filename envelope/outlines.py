@@ -1,0 +1,293 @@
+"""Element outlines: GeoJSON in pixel coordinates → validated shapely polygons.
+
+An outline file is an RFC 7946 ``FeatureCollection`` whose coordinates are pixel
+coordinates of the thermogram, ``(x, y)`` = (column, row), frame ``[0, W] x [0, H]``,
+y pointing down (DEVELOPERS.md). Each feature carries the properties
+
+``element``
+    Name of the building element, one of the survey's element names.
+``role``
+    ``"element"`` (the element's outline; default when absent) or ``"reference"`` (a zone of
+    the element that is taken as representative of its clear field, e.g. for the U-value).
+
+Geometry is a ``Polygon`` or a ``MultiPolygon`` (several parts of one element). Each element
+has at most one feature per role in one file; a ``MultiPolygon`` is how several parts are
+given. Rings may be given closed (first position repeated, as RFC 7946 asks) or open.
+
+Reading uses the standard library ``json`` only; validation uses shapely.
+
+References
+----------
+[1] Butler, H. et al. (2016). The GeoJSON Format. IETF RFC 7946.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Iterable
+from dataclasses import dataclass
+from pathlib import Path
+
+import shapely
+from shapely.geometry import MultiPolygon, Polygon, box
+
+from envelope.errors import GeometryError
+
+ROLES = ("element", "reference")
+"""Valid values of the ``role`` property."""
+FRAME_TOLERANCE_PX = 1.0
+"""How far [px] a vertex may lie outside the frame before the outline is rejected."""
+MAX_FILE_BYTES = 20_000_000
+"""Largest outline file read [bytes]."""
+MAX_VERTICES = 200_000
+"""Largest number of vertices in one outline file."""
+
+
+@dataclass(frozen=True)
+class Outline:
+    """One validated outline feature.
+
+    Attributes
+    ----------
+    element : str
+        Element name.
+    role : str
+        ``"element"`` or ``"reference"``.
+    polygon : shapely.Polygon or shapely.MultiPolygon
+        Outline in pixel coordinates, clipped to the frame.
+    index : int
+        Index of the feature in the file's ``features`` list.
+    """
+
+    element: str
+    role: str
+    polygon: Polygon | MultiPolygon
+    index: int
+
+
+def read_outlines(path, shape_px, element_names=None) -> list[Outline]:
+    """Read and validate a GeoJSON outline file.
+
+    Parameters
+    ----------
+    path : str or Path
+        The GeoJSON file.
+    shape_px : tuple of int
+        Image shape ``(H, W)`` [px] (rows, columns) of the thermogram.
+    element_names : iterable of str, optional
+        Known element names; ``None`` accepts any non-empty name.
+
+    Returns
+    -------
+    list of Outline
+        In file order.
+
+    Raises
+    ------
+    GeometryError
+        For a file that cannot be read or parsed, or any invalid feature (see
+        `parse_outlines`).
+    """
+    path = Path(path)
+    try:
+        size = path.stat().st_size
+    except OSError as exc:
+        raise GeometryError(f"cannot read outline file ({exc.strerror})", file=str(path)) from None
+    if size > MAX_FILE_BYTES:
+        raise GeometryError(f"outline file is {size} bytes, more than the limit "
+                            f"{MAX_FILE_BYTES}", file=str(path))
+    try:
+        obj = json.loads(path.read_text(encoding="utf-8"))
+    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise GeometryError(f"not valid JSON ({exc})", file=str(path)) from None
+    return parse_outlines(obj, shape_px, element_names, source=str(path))
+
+
+def parse_outlines(obj, shape_px, element_names=None, source="<memory>") -> list[Outline]:
+    """Validate a loaded GeoJSON dict of outlines (see `read_outlines`).
+
+    Parameters
+    ----------
+    obj : object
+        The decoded JSON document.
+    shape_px : tuple of int
+        Image shape ``(H, W)`` [px].
+    element_names : iterable of str, optional
+        Known element names; ``None`` accepts any non-empty name.
+    source : str
+        Name used as ``file`` in errors.
+
+    Returns
+    -------
+    list of Outline
+
+    Raises
+    ------
+    GeometryError
+        Not a FeatureCollection; a feature without ``properties``/``element``; an unknown
+        element or role; a geometry other than Polygon/MultiPolygon; empty coordinates; a
+        non-numeric or non-finite vertex; a ring with fewer than 3 distinct vertices; a
+        self-intersecting or otherwise invalid polygon (shapely's reason is given); zero
+        area; a vertex more than `FRAME_TOLERANCE_PX` outside the frame; two features of one
+        element with the same role. The error's ``field`` names the feature, e.g.
+        ``features[2].geometry.coordinates[0][3]``.
+    """
+    h_px, w_px = _shape(shape_px)
+    names = None if element_names is None else {str(n) for n in element_names}
+    if not isinstance(obj, dict) or obj.get("type") != "FeatureCollection":
+        raise GeometryError('expected a GeoJSON object with "type": "FeatureCollection"',
+                            file=source, field="type")
+    features = obj.get("features")
+    if not isinstance(features, list):
+        raise GeometryError('"features" must be a list of Feature objects', file=source,
+                            field="features")
+    frame = box(0.0, 0.0, float(w_px), float(h_px))
+    seen: dict[tuple[str, str], int] = {}
+    n_vertices = 0
+    out = []
+    for i, feat in enumerate(features):
+        where = f"features[{i}]"
+        if not isinstance(feat, dict) or feat.get("type") != "Feature":
+            raise GeometryError('expected a Feature object ("type": "Feature")', file=source,
+                                field=where)
+        props = feat.get("properties")
+        if not isinstance(props, dict):
+            raise GeometryError('missing "properties" with "element" (and "role")',
+                                file=source, field=f"{where}.properties")
+        element = props.get("element")
+        if not isinstance(element, str) or not element.strip():
+            raise GeometryError('missing or empty "element" name', file=source,
+                                field=f"{where}.properties.element")
+        if names is not None and element not in names:
+            raise GeometryError(f"unknown element {element!r}; known: "
+                                f"{', '.join(sorted(names)) or '(none)'}", file=source,
+                                field=f"{where}.properties.element")
+        role = props.get("role", "element")
+        if role not in ROLES:
+            raise GeometryError(f"element {element!r}: unknown role {role!r}; valid: "
+                                f"{', '.join(ROLES)}", file=source,
+                                field=f"{where}.properties.role")
+        key = (element, role)
+        if key in seen:
+            raise GeometryError(f"element {element!r} has a second {role!r} outline "
+                                f"(first in features[{seen[key]}]); give several parts as "
+                                "one MultiPolygon", file=source, field=where)
+        seen[key] = i
+        geom = feat.get("geometry")
+        polygon, nv = _geometry(geom, f"{where}.geometry", element, source)
+        n_vertices += nv
+        if n_vertices > MAX_VERTICES:
+            raise GeometryError(f"more than {MAX_VERTICES} vertices in the file",
+                                file=source, field=where)
+        xmin, ymin, xmax, ymax = polygon.bounds
+        tol = FRAME_TOLERANCE_PX
+        if xmin < -tol or ymin < -tol or xmax > w_px + tol or ymax > h_px + tol:
+            raise GeometryError(
+                f"element {element!r}: outline reaches ({xmin:.1f}..{xmax:.1f}, "
+                f"{ymin:.1f}..{ymax:.1f}) px, outside the {w_px}x{h_px} px frame",
+                file=source, field=f"{where}.geometry.coordinates")
+        if not frame.contains(polygon):
+            polygon = _as_polygonal(polygon.intersection(frame))
+        out.append(Outline(element=element, role=role, polygon=polygon, index=i))
+    return out
+
+
+def _shape(shape_px) -> tuple[int, int]:
+    try:
+        h_px, w_px = (int(v) for v in shape_px[:2])
+    except (TypeError, ValueError):
+        raise ValueError(f"shape_px must be (H, W) in pixels, got {shape_px!r}") from None
+    if h_px <= 0 or w_px <= 0:
+        raise ValueError(f"shape_px must be positive, got {shape_px!r}")
+    return h_px, w_px
+
+
+def _geometry(geom, where, element, source):
+    """Build and validate a shapely (Multi)Polygon; return it and its vertex count."""
+    if not isinstance(geom, dict):
+        raise GeometryError(f"element {element!r}: missing geometry", file=source, field=where)
+    gtype = geom.get("type")
+    coords = geom.get("coordinates")
+    if gtype not in ("Polygon", "MultiPolygon"):
+        raise GeometryError(f"element {element!r}: geometry type {gtype!r}; expected "
+                            "Polygon or MultiPolygon", file=source, field=f"{where}.type")
+    where_c = f"{where}.coordinates"
+    if not isinstance(coords, list) or len(coords) == 0:
+        raise GeometryError(f"element {element!r}: empty coordinates", file=source,
+                            field=where_c)
+    if gtype == "Polygon":
+        parts = [(coords, where_c)]
+    else:
+        parts = [(p, f"{where_c}[{k}]") for k, p in enumerate(coords)]
+    polys = []
+    nv = 0
+    for rings, w in parts:
+        if not isinstance(rings, list) or len(rings) == 0:
+            raise GeometryError(f"element {element!r}: empty coordinates", file=source,
+                                field=w)
+        clean = []
+        for r, ring in enumerate(rings):
+            pts = _ring(ring, f"{w}[{r}]", element, source)
+            nv += len(pts)
+            clean.append(pts)
+        poly = Polygon(clean[0], clean[1:])
+        _check_valid(poly, w, element, source)
+        polys.append(poly)
+    result = polys[0] if len(polys) == 1 else MultiPolygon(polys)
+    if len(polys) > 1:
+        _check_valid(result, where_c, element, source)
+    return result, nv
+
+
+def _ring(ring, where, element, source) -> list[tuple[float, float]]:
+    if not isinstance(ring, list) or len(ring) == 0:
+        raise GeometryError(f"element {element!r}: empty coordinates", file=source,
+                            field=where)
+    pts = []
+    for k, pos in enumerate(ring):
+        if (not isinstance(pos, list | tuple) or len(pos) < 2
+                or not all(_is_number(v) for v in pos[:2])):
+            raise GeometryError(f"element {element!r}: vertex {pos!r} is not a pair of "
+                                "numbers [x, y] in pixels", file=source, field=f"{where}[{k}]")
+        x, y = float(pos[0]), float(pos[1])
+        if not (math.isfinite(x) and math.isfinite(y)):
+            raise GeometryError(f"element {element!r}: vertex {pos!r} is not finite",
+                                file=source, field=f"{where}[{k}]")
+        pts.append((x, y))
+    if len(pts) > 1 and pts[0] == pts[-1]:
+        pts = pts[:-1]
+    if len(set(pts)) < 3:
+        raise GeometryError(f"element {element!r}: a ring needs at least 3 distinct "
+                            f"vertices, got {len(set(pts))}", file=source, field=where)
+    return pts
+
+
+def _is_number(v) -> bool:
+    return isinstance(v, int | float) and not isinstance(v, bool)
+
+
+def _check_valid(poly, where, element, source):
+    if not poly.area > 0.0:
+        raise GeometryError(f"element {element!r}: outline has zero area", file=source,
+                            field=where)
+    reason = shapely.is_valid_reason(poly)
+    if reason != "Valid Geometry":
+        raise GeometryError(f"element {element!r}: invalid outline ({reason}); edges must "
+                            "not cross or touch", file=source, field=where)
+
+
+def _as_polygonal(geom) -> Polygon | MultiPolygon:
+    """Keep the polygonal parts of a clipping result."""
+    if isinstance(geom, Polygon | MultiPolygon):
+        return geom
+    parts = [g for g in getattr(geom, "geoms", []) if isinstance(g, Polygon) and g.area > 0]
+    return parts[0] if len(parts) == 1 else MultiPolygon(parts)
+
+
+def outlines_by_element(outlines: Iterable[Outline]) -> dict[str, dict[str, Outline]]:
+    """Group outlines as ``{element: {role: Outline}}``."""
+    grouped: dict[str, dict[str, Outline]] = {}
+    for o in outlines:
+        grouped.setdefault(o.element, {})[o.role] = o
+    return grouped
