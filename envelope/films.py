@@ -262,9 +262,7 @@ def convective_coefficient(
         Wiley, 2013, Sec. 3.15 (after Watmuff, Charters and Proctor, 1977).
     """
     func = _choose(_CONVECTIVE, model, "convective model")
-    out = func(
-        direction=direction, t_s_c=t_s_c, t_a_c=t_a_c, height_m=height_m, wind_m_s=wind_m_s
-    )
+    out = func(direction=direction, t_s_c=t_s_c, t_a_c=t_a_c, height_m=height_m, wind_m_s=wind_m_s)
     out = np.asarray(out, dtype=float)
     if t_s_c is not None and np.ndim(t_s_c) and out.ndim == 0:
         out = np.full(np.shape(t_s_c), float(out))

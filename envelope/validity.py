@@ -85,8 +85,7 @@ def check_delta_t(t_i, t_e):
         _grade(dt, dt >= DELTA_T_PASS_K, dt >= DELTA_T_WARN_K),
         dt,
         "K",
-        f"|T_i - T_e| >= {DELTA_T_PASS_K:g} K pass, >= {DELTA_T_WARN_K:g} K warn "
-        "(common practice)",
+        f"|T_i - T_e| >= {DELTA_T_PASS_K:g} K pass, >= {DELTA_T_WARN_K:g} K warn (common practice)",
     )
 
 
@@ -104,7 +103,9 @@ def check_sun(hours_since_sun, side="exterior"):
         raise ValueError(f"side must be one of {tuple(SUN_PASS_H)}, got {side!r}")
     h = float(hours_since_sun)
     need = SUN_PASS_H[side]
-    status = "fail" if np.isnan(h) else ("pass" if h >= need else "warn" if h >= need / 2 else "fail")
+    status = (
+        "fail" if np.isnan(h) else ("pass" if h >= need else "warn" if h >= need / 2 else "fail")
+    )
     return Check(
         "sun",
         status,
