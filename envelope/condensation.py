@@ -38,7 +38,8 @@ FIXED_CRITERIA = {
     "bre-ip1-06-dwellings": (
         0.75,
         "BRE Information Paper IP 1/06, Assessing the effects of thermal bridging at "
-        "junctions and around openings (2006): fCRsi >= 0.75 for dwellings, offices, shops",
+        "junctions and around openings (2006), Table 1: fCRsi >= 0.75 for dwellings, "
+        "residential buildings and schools (from memory)",
     ),
     "din-4108-2": (
         0.70,
@@ -110,12 +111,13 @@ def saturation_vapour_pressure(t_c):
 
     Notes
     -----
-    Eq. (E.7)/(E.8) of [1] (Magnus-type fits)::
+    Magnus-type fits of Annex E of [1]::
 
         p_sat = 610.5 exp(17.269 θ / (237.3 + θ))   θ >= 0 °C (over water)
         p_sat = 610.5 exp(21.875 θ / (265.5 + θ))   θ <  0 °C (over ice)
 
-    They agree with the IAPWS formulations within about 0.5 % over -20...+30 °C.
+    They agree with IAPWS-95 (water) and the ASHRAE / Hyland-Wexler values within about
+    0.5 % over -20...+30 °C (tests/test_condensation.py).
 
     References
     ----------
@@ -158,7 +160,10 @@ def relative_humidity(t_c, p_v_pa):
 
     Not clipped: a value above 1 means the vapour pressure exceeds saturation.
     """
-    return _out(np.asarray(p_v_pa, dtype=float) / np.asarray(saturation_vapour_pressure(t_c)))
+    p = np.asarray(p_v_pa, dtype=float)
+    if np.any(p[np.isfinite(p)] < 0.0):
+        raise SurveyError("vapour pressure must be >= 0 Pa", field="p_v_pa")
+    return _out(p / np.asarray(saturation_vapour_pressure(t_c)))
 
 
 def dew_point(t_c, rh):
@@ -227,24 +232,16 @@ def temperature_factor(t_si_c, t_i_c, t_e_c):
     -------
     float or ndarray
         fRsi; NaN only where an input is NaN or where T_i = T_e exactly (warned).
-
-    Raises
-    ------
-    SurveyError
-        Indoor colder than outdoor by more than 1 K (swapped temperatures?).
-
-    Warns
-    -----
-    EnvelopeWarning
-        Where T_i - T_e < 1 K: fRsi is then dominated by measurement error.
+        Raises SurveyError where indoor air is colder than outdoor by more than 1 K
+        (swapped temperatures?); warns (EnvelopeWarning) where T_i - T_e < 1 K.
 
     Notes
     -----
-    fRsi = (θsi - θe) / (θi - θe), Eq. (1) of [1]; 1 for a perfect insulator.
+    fRsi = (θsi - θe) / (θi - θe), as defined in [1]; 1 for a perfect insulator.
 
     References
     ----------
-    [1] ISO 13788:2012, §3.1.3 and §5.
+    [1] ISO 13788:2012, §3 (terms) and §5.
 
     Examples
     --------
@@ -368,7 +365,8 @@ def indoor_vapour_pressure(t_e_c, rh_e, t_i_c, model: str = "measured", *, rh_i=
     -----
     Δp = Δv R_v T with R_v = 461.5 J/(kg K) and T the indoor air temperature [K] (ideal gas
     at room-air state; the class values of Annex A correspond to T ≈ 293 K). Some texts use
-    the mean of indoor and outdoor temperature; the difference is under 4 % in winter.
+    the mean of indoor and outdoor temperature, which gives a few per cent (3.4 % at
+    θi = 20 °C, θe = 0 °C) less.
 
     References
     ----------
@@ -464,6 +462,7 @@ def frsi_min(monthly_t_e_c, monthly_rh_e, monthly_t_i_c, humidity: IndoorHumidit
         t_e, rh_e, t_i, humidity.model, rh_i=rh_i, humidity_class=humidity.humidity_class,
         moisture_kg_h=humidity.moisture_kg_h, air_changes_per_h=humidity.air_changes_per_h,
         volume_m3=humidity.volume_m3, safety_factor=humidity.safety_factor), dtype=float)
+    p_i = np.broadcast_to(p_i, (12,)).copy()
     p_sat_min = p_i / crit
     t_si_min = _t_from_p_sat(p_sat_min)
     dt = t_i - t_e
@@ -546,7 +545,7 @@ def assess_frsi(frsi_values, limit_mould: FrsiLimit, limit_condensation: FrsiLim
     -----
     The 5th percentile fRsi,p05 (robust to single dead or hot pixels) is compared with the
     limits; condensation outranks mould. Predicted surface temperature
-    θsi = θe + fRsi,p05 (θi - θe) (Eq. (1) of [1] rearranged), surface humidity
+    θsi = θe + fRsi,p05 (θi - θe) (the definition of fRsi in [1] rearranged), surface humidity
     φ_si = φ_i p_sat(θi) / p_sat(θsi).
 
     References
