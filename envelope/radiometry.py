@@ -285,7 +285,7 @@ def apparent_temperature(object_c, emissivity, reflected_c, transmittance=1.0,
     Notes
     -----
     ``W = tau eps L(T_obj) + tau (1 - eps) L(T_refl) + (1 - tau) L(T_atm)`` and the apparent
-    temperature is ``L^-1(W)`` (measurement equation of thermography, ch. 2 of [1], with band
+    temperature is ``L^-1(W)`` (measurement equation of thermography [1], with band
     radiance L instead of the camera signal).
 
     References
