@@ -502,6 +502,8 @@ class ElementRegion:
         Boundary length of the net outline [m]: outer boundary plus opening edges.
     openings : tuple of str
         Names of the windows and doors cut out of this element.
+    reference_polygon : shapely.Polygon or MultiPolygon or None
+        The reference zone [px], clipped to the net outline.
     """
 
     name: str
@@ -514,6 +516,7 @@ class ElementRegion:
     pixel_area_m2: float
     perimeter_m: float
     openings: tuple[str, ...]
+    reference_polygon: Polygon | MultiPolygon | None = None
 
 
 def metric_polygon(polygon, h: Homography, name: str = "outline"):
@@ -618,7 +621,7 @@ def element_regions(outlines, elements: Mapping, shape_px, h: Homography,
             raise GeometryError(f"element {name!r}: nothing is left after cutting out "
                                 f"{', '.join(cut[name])}", file=source, field=field)
         mask = rasterise(net, shape_px)
-        ref_mask = None
+        ref_mask = ref = None
         if "reference" in roles:
             ref = roles["reference"].polygon
             rfield = f"features[{roles['reference'].index}]"
@@ -635,7 +638,7 @@ def element_regions(outlines, elements: Mapping, shape_px, h: Homography,
             name=name, kind=kinds[name], polygon_net=net, mask=mask, reference_mask=ref_mask,
             area_m2=float(net_m.area), area_gross_m2=float(metric_polygon(gross, h, name).area),
             pixel_area_m2=float(area_map[mask].sum()), perimeter_m=float(net_m.length),
-            openings=tuple(cut[name]))
+            openings=tuple(cut[name]), reference_polygon=ref)
     return out
 
 
