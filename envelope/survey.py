@@ -371,8 +371,9 @@ class _Table:
         return tuple(out)
 
     def sub(self, key, allowed, default=_REQUIRED):
+        """A sub-table; a missing one gives None (default None) or an empty table ({})."""
         v = self._get(key, default)
-        if v is None or (v is default and key not in self.data):
+        if v is None:
             return None
         return _Table(v, self.file, self._f(key), allowed)
 

@@ -1,0 +1,621 @@
+"""The pipeline: a loaded survey → an `Assessment` (pure stages called in order).
+
+Stages (SPEC §2): radiometric correction → geometry (homography, element regions, area map)
+→ surface heat flux and U per pixel and per element (Monte Carlo uncertainty) → temperature
+factor and condensation / mould risk → defects → heat loss, retrofit case and builder
+verdicts. Pixel files are read here through `survey.load_pixels`; nothing is written.
+A thermogram that fails with a user error is listed in ``failures``; the others go on.
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import condensation, energy, films, geometry, radiometry, transmittance, validity
+from .errors import EnvelopeWarning, SurveyError
+from .survey import Survey, Thermogram, load_air_log, load_pixels
+
+DEFAULT_EMISSIVITY = 0.93
+"""Used only when neither the element, its material nor the thermogram gives one (painted
+plaster and most building materials lie at 0.90–0.95: common practice). Flagged in notes."""
+
+
+@dataclass
+class ElementResult:
+    name: str
+    kind: str
+    thermogram: str
+    side: str
+    area_net_m2: float
+    emissivity: float
+    u_w_m2k: float
+    u_std_w_m2k: float
+    u_low95_w_m2k: float
+    u_high95_w_m2k: float
+    u_whole_w_m2k: float
+    u_method: str
+    h_c_model: str
+    h_c_w_m2k: float
+    calibrated: bool
+    calibration_note: str
+    budget: list
+    u_valid: bool = True
+    u_note: str = ""
+    frsi_min: float | None = None
+    frsi_p05: float | None = None
+    risk: str | None = None
+    t_si_design_c: float | None = None
+    rh_si_design: float | None = None
+    u_specified_w_m2k: float | None = None
+    verdict: str | None = None
+    verdict_reason: str = ""
+    coverage_share: float | None = None
+    checks: list = field(default_factory=list)
+
+
+@dataclass
+class ThermogramResult:
+    thermogram: Thermogram
+    status: str
+    error: str | None = None
+    object_c: np.ndarray | None = None
+    frsi: np.ndarray | None = None
+    regions: dict = field(default_factory=dict)
+    outlines: list = field(default_factory=list)
+    homography: object | None = None
+    transmittance: float | None = None
+    elements: list = field(default_factory=list)
+    defects: list = field(default_factory=list)
+    checks: list = field(default_factory=list)
+    paired_with: str | None = None
+
+
+@dataclass
+class Assessment:
+    survey: Survey
+    checks: list
+    limit_mould: object | None
+    limit_condensation: object | None
+    thermograms: list
+    elements: list
+    defects: list
+    heat_loss: dict | None
+    measures: list
+    package: dict | None
+    series: list
+    failures: list
+    notes: list
+
+
+Progress = Callable[[str], None]
+
+
+# --------------------------------------------------------------------------- survey level
+def survey_checks(survey: Survey) -> list:
+    c = survey.conditions
+    checks = [validity.check_delta_t(c.indoor_air_c, c.outdoor_air_c),
+              validity.check_wind(c.wind_m_s), validity.check_rain(c.rain, c.hours_since_rain)]
+    if c.outdoor_history_c:
+        checks.append(validity.check_drift(c.outdoor_history_c, c.history_interval_h,
+                                           name="outdoor drift"))
+    if c.indoor_history_c:
+        checks.append(validity.check_drift(c.indoor_history_c, c.history_interval_h,
+                                           name="indoor drift"))
+    return checks
+
+
+def frsi_limits(survey: Survey):
+    """(mould, condensation) `FrsiLimit` for the survey's climate, or (None, None) with a note."""
+    cl = survey.climate
+    if cl.frsi_criterion != "iso13788":
+        lim = condensation.fixed_limit(cl.frsi_criterion)
+        return lim, lim, f"fRsi limit: fixed criterion {cl.frsi_criterion} ({lim.value:.2f})"
+    if cl.monthly_outdoor_c is None or cl.monthly_outdoor_rh is None:
+        return None, None, ("no monthly climate in the survey ([climate] monthly_outdoor_c and "
+                            "monthly_outdoor_rh): fRsi is reported without a limit")
+    t_i = cl.monthly_indoor_c or (cl.design_indoor_c or survey.conditions.indoor_air_c,) * 12
+    hum = condensation.IndoorHumidity(
+        cl.indoor_humidity, rh=cl.indoor_rh, humidity_class=cl.humidity_class,
+        moisture_kg_h=cl.moisture_kg_h, air_changes_per_h=cl.air_changes_per_h,
+        volume_m3=cl.volume_m3)
+    try:
+        mould = condensation.frsi_min(cl.monthly_outdoor_c, cl.monthly_outdoor_rh, t_i, hum, 0.8)
+        cond = condensation.frsi_min(cl.monthly_outdoor_c, cl.monthly_outdoor_rh, t_i, hum, 1.0)
+    except ValueError as exc:
+        if isinstance(exc, SurveyError):
+            raise
+        raise SurveyError(str(exc), survey.file.name, "climate") from None
+    return mould, cond, None
+
+
+# --------------------------------------------------------------------------- one thermogram
+def emissivity_of(survey: Survey, tg: Thermogram, name: str) -> tuple[float, str]:
+    """Emissivity of element `name` in thermogram `tg` and where it came from."""
+    el = survey.elements[name]
+    if name in tg.emissivity_by_element:
+        return tg.emissivity_by_element[name], "thermogram"
+    if el.emissivity is not None:
+        return el.emissivity, "element"
+    if el.material is not None:
+        return radiometry.emissivity_for(el.material), f"material {el.material}"
+    if tg.emissivity_default is not None:
+        return tg.emissivity_default, "thermogram default"
+    return DEFAULT_EMISSIVITY, "default"
+
+
+def _homography(tg: Thermogram, shape, label: str):
+    if tg.reference_points is not None:
+        try:
+            return geometry.fit_homography(tg.reference_points.pixel_xy, tg.reference_points.metre_xy)
+        except SurveyError as exc:
+            raise SurveyError(exc.detail, label, "reference_points") from None
+    if tg.known_length is not None:
+        k = tg.known_length
+        return geometry.scale_homography(k.pixel_a, k.pixel_b, k.length_m, shape)
+    raise SurveyError("no scale: expected [thermograms.reference_points] (4 or more) or "
+                      "[thermograms.known_length]", label, "reference_points")
+
+
+def _correct(survey: Survey, tg: Thermogram, readings: np.ndarray, eps_map: np.ndarray):
+    """Readings as exported → object temperature [°C]; returns (object_c, apparent_c, tau)."""
+    band = survey.camera.band_um
+    ex = tg.export
+    apparent = radiometry.blackbody_reading(readings, ex.emissivity, ex.reflected_c,
+                                            ex.transmittance, ex.atmosphere_c, band_um=band)
+    c = survey.conditions
+    air = c.indoor_air_c if tg.side == "interior" else c.outdoor_air_c
+    rh = (c.indoor_rh if tg.side == "interior" else c.outdoor_rh)
+    if tg.transmittance is not None:
+        tau = tg.transmittance
+    else:
+        tau = float(radiometry.atmospheric_transmittance(tg.distance_m, air, 0.6 if rh is None else rh,
+                                                         band_um=band))
+    atm = tg.atmosphere_c if tg.atmosphere_c is not None else air
+    obj = radiometry.object_temperature(apparent, eps_map, tg.reflected_c, tau, atm, band_um=band)
+    return np.asarray(obj, dtype=np.float32), np.asarray(apparent, dtype=np.float32), tau, atm
+
+
+def correct_thermogram(survey: Survey, tg: Thermogram):
+    """Read one thermogram and return ``(object_c, regions, h, outlines, eps_map, tau, apparent)``."""
+    label = str(tg.file.relative_to(survey.root))
+    readings = load_pixels(tg.file, label)
+    shape = readings.shape
+    olabel = str(tg.outlines.relative_to(survey.root))
+    outlines = geometry.read_outlines(tg.outlines, shape, tuple(survey.elements))
+    h = _homography(tg, shape, survey.file.name + f": thermograms[{tg.id}]")
+    el_spec = {n: (e.kind, e.host) for n, e in survey.elements.items()}
+    regions = geometry.element_regions(outlines, el_spec, shape, h, source=olabel)
+    eps_map = np.full(shape, tg.emissivity_default or DEFAULT_EMISSIVITY, dtype=np.float32)
+    for name, reg in regions.items():
+        eps_map[reg.mask] = emissivity_of(survey, tg, name)[0]
+    obj, apparent, tau, atm = _correct(survey, tg, readings, eps_map)
+    return obj, regions, h, outlines, eps_map, tau, apparent, atm
+
+
+def _zone(reg) -> np.ndarray:
+    if reg.reference_mask is not None and reg.reference_mask.any():
+        return reg.reference_mask
+    return reg.mask
+
+
+def _h_c(survey: Survey, el, side: str, t_s_c: float, t_a_c: float) -> tuple[float, str]:
+    a = survey.analysis
+    if side == "interior":
+        model = a.interior_convection
+        h = films.convective_coefficient(model, direction=el.heat_flow, t_s_c=t_s_c, t_a_c=t_a_c,
+                                         height_m=el.height_m)
+    else:
+        model = a.exterior_convection
+        h = films.convective_coefficient(model, wind_m_s=survey.conditions.wind_m_s)
+    return float(h), model
+
+
+def _sky(survey: Survey, el):
+    c = survey.conditions
+    dp = condensation.dew_point(c.outdoor_air_c, c.outdoor_rh if c.outdoor_rh is not None else 0.85)
+    t_sky = float(films.sky_temperature(c.outdoor_air_c, dew_point_c=dp,
+                                        cloud_oktas=c.sky_cloud_oktas, model=survey.analysis.sky_model))
+    f_sky, _ = films.view_factors(el.tilt_deg)
+    return t_sky, float(f_sky)
+
+
+def assess_element(survey: Survey, tg: Thermogram, reg, obj, apparent, eps, tau, atm,
+                   limits, area_map, checks) -> tuple[ElementResult, np.ndarray]:
+    """U, uncertainty, fRsi and verdict for one element in one thermogram; returns the
+    result and the per-pixel heat-flux map [W/m²] (NaN outside the element)."""
+    from . import uncertainty
+
+    c = survey.conditions
+    el = survey.elements[reg.name]
+    zone = _zone(reg) & np.isfinite(obj)
+    if not zone.any():
+        raise SurveyError(f"element '{reg.name}' has no valid pixel", tg.file.name, reg.name)
+    t_zone = float(np.mean(obj[zone]))
+    dt = c.indoor_air_c - c.outdoor_air_c
+    t_air_side = c.indoor_air_c if tg.side == "interior" else c.outdoor_air_c
+    h_c, model = _h_c(survey, el, tg.side, t_zone, t_air_side)
+    el_checks = list(checks)
+    if tg.side == "interior":
+        q = transmittance.heat_flux_interior(obj, c.indoor_air_c, tg.reflected_c, eps, h_c)
+        t_sky, f_sky = None, None
+    else:
+        t_sky, f_sky = _sky(survey, el)
+        q = transmittance.heat_flux_exterior(obj, c.outdoor_air_c, eps, h_c, t_sky_c=t_sky,
+                                             t_ground_c=films.ground_temperature(c.outdoor_air_c),
+                                             f_sky=f_sky)
+        el_checks.append(validity.check_night_sky(t_zone, c.outdoor_air_c, "exterior"))
+    q = np.where(reg.mask, np.asarray(q, dtype=float), np.nan)
+    valid = reg.mask & np.isfinite(q)
+    u_whole = float(np.nansum(q[valid] * area_map[valid]) / (np.sum(area_map[valid]) * dt))
+
+    cal = _calibration(tg, obj, apparent, reg)
+    inputs = uncertainty.UInputs(
+        apparent_c=float(np.mean(apparent[zone])), emissivity=eps,
+        u_emissivity=tg.emissivity_uncertainty, reflected_c=tg.reflected_c,
+        u_reflected_k=tg.reflected_uncertainty_k, t_ai_c=c.indoor_air_c,
+        u_t_ai_k=c.air_uncertainty_k, t_ae_c=c.outdoor_air_c, u_t_ae_k=c.air_uncertainty_k,
+        camera_accuracy_k=survey.camera.accuracy_k,
+        camera_relative_k=survey.camera.relative_accuracy_k, transmittance=tau,
+        side=tg.side, h_c_model=model, direction=el.heat_flow,
+        wind_m_s=c.wind_m_s, u_wind=c.wind_uncertainty_m_s, height_m=el.height_m,
+        t_sky_c=t_sky, f_sky=f_sky if f_sky is not None else 0.5, calibration=cal,
+    )
+    est = uncertainty.monte_carlo_u(inputs, n_draws=survey.analysis.monte_carlo_draws,
+                                    seed=survey.analysis.seed)
+    u_valid, u_note = True, ""
+    if any(ch.name == "night sky" and ch.status == "fail" for ch in el_checks) or est.u_w_m2k <= 0:
+        u_valid = False
+        u_note = ("not a valid result: the exterior surface is colder than the outdoor air "
+                  "(night-sky cooling) or the balance gives U ≤ 0; use an interior view")
+    res = ElementResult(
+        name=reg.name, kind=el.kind, thermogram=tg.id, side=tg.side, area_net_m2=reg.area_m2,
+        emissivity=float(eps), u_w_m2k=est.u_w_m2k, u_std_w_m2k=est.u_std,
+        u_low95_w_m2k=est.low95, u_high95_w_m2k=est.high95, u_whole_w_m2k=u_whole,
+        u_method=f"{tg.side} surface", h_c_model=model, h_c_w_m2k=h_c,
+        calibrated=est.calibrated, calibration_note=est.calibration_note,
+        budget=[{"input": k, "share": float(v)} for k, v in est.budget.items()],
+        u_valid=u_valid, u_note=u_note, u_specified_w_m2k=el.u_specified_w_m2k,
+        checks=el_checks,
+    )
+    return res, q
+
+
+def _calibration(tg: Thermogram, obj, apparent, reg):
+    """Reference-spot calibration data for the element, if a probe or tape lies on it."""
+    from . import uncertainty
+
+    def inside(xy):
+        col, row = int(math.floor(xy[0])), int(math.floor(xy[1]))
+        if 0 <= row < reg.mask.shape[0] and 0 <= col < reg.mask.shape[1] and reg.mask[row, col]:
+            return row, col
+        return None
+
+    def patch(img, rc):
+        r, c = rc
+        v = img[max(r - 1, 0): r + 2, max(c - 1, 0): c + 2]
+        return float(np.nanmean(v))
+
+    kw = {}
+    for p in tg.probes:
+        rc = inside(p.pixel_xy)
+        if rc is not None:
+            kw.update(probe_surface_c=p.surface_c, u_probe_k=p.uncertainty_k,
+                      probe_apparent_c=patch(apparent, rc))
+            break
+    for t in tg.tapes:
+        rc, rs = inside(t.pixel_xy), inside(t.surface_pixel_xy)
+        if rc is not None and rs is not None:
+            kw.update(tape_apparent_c=patch(apparent, rc), tape_emissivity=t.emissivity,
+                      surface_next_to_tape_apparent_c=patch(apparent, rs))
+            break
+    return uncertainty.Calibration(**kw) if kw else None
+
+
+def frsi_verdict(res: ElementResult, frsi_values, survey: Survey, limits):
+    mould, cond = limits
+    if mould is None or frsi_values.size == 0:
+        return
+    cl = survey.climate
+    t_i = cl.design_indoor_c if cl.design_indoor_c is not None else survey.conditions.indoor_air_c
+    crit = mould.critical_month - 1 if getattr(mould, "critical_month", None) else 0
+    if cl.monthly_outdoor_c is not None:
+        t_e = cl.monthly_outdoor_c[crit]
+    else:
+        t_e = cl.design_outdoor_c if cl.design_outdoor_c is not None else survey.conditions.outdoor_air_c
+    rh_i = _design_rh(survey, mould, crit)
+    v = condensation.assess_frsi(frsi_values, mould, cond, t_i, t_e, rh_i)
+    res.frsi_min, res.frsi_p05, res.risk = v.frsi_min, v.frsi_p05, v.risk
+    res.t_si_design_c, res.rh_si_design = v.t_si_design_c, v.rh_si_design
+
+
+def _design_rh(survey: Survey, limit, month_index: int) -> float:
+    pm = getattr(limit, "p_i_pa", None)
+    if pm is not None and np.ndim(pm) and np.isfinite(pm[month_index]):
+        cl = survey.climate
+        t_i = (cl.monthly_indoor_c or (cl.design_indoor_c or survey.conditions.indoor_air_c,) * 12)[month_index]
+        return float(condensation.relative_humidity(t_i, pm[month_index]))
+    return survey.conditions.indoor_rh if survey.conditions.indoor_rh is not None else 0.5
+
+
+def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=None) -> ThermogramResult:
+    """Everything one thermogram gives: corrected image, element U, fRsi, defects."""
+    from . import defects as defects_mod
+
+    c = survey.conditions
+    obj, regions, h, outlines, eps_map, tau, apparent, atm = correct_thermogram(survey, tg)
+    out = ThermogramResult(tg, "assessed", object_c=obj, regions=regions, outlines=outlines,
+                           homography=h, transmittance=tau)
+    checks = [validity.check_view_angle(tg.view_angle_deg)]
+    if tg.hours_since_sun is not None:
+        checks.append(validity.check_sun(tg.hours_since_sun, tg.side))
+    out.checks = checks
+    area_map = geometry.pixel_area_map(h, obj.shape)
+    dt = c.indoor_air_c - c.outdoor_air_c
+    if dt <= 0:
+        raise SurveyError("indoor air is not warmer than outdoor air; no heat flows outwards",
+                          survey.file.name, "conditions.indoor_air_c")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", EnvelopeWarning)
+        frsi = np.asarray(condensation.temperature_factor(obj, c.indoor_air_c, c.outdoor_air_c),
+                          dtype=np.float32) if tg.side == "interior" else None
+    out.frsi = frsi
+    q_map = np.full(obj.shape, np.nan)
+    for name, reg in regions.items():
+        eps = emissivity_of(survey, tg, name)[0]
+        res, q = assess_element(survey, tg, reg, obj, apparent, eps, tau, atm, limits,
+                                area_map, checks)
+        q_map = np.where(reg.mask, q, q_map)
+        if frsi is not None:
+            vals = frsi[reg.mask & np.isfinite(frsi)]
+            frsi_verdict(res, vals, survey, limits)
+        out.elements.append(res)
+    # defects (interior: cold anomalies of fRsi; exterior: warm anomalies)
+    f_map = frsi if frsi is not None else np.asarray(
+        (obj - c.outdoor_air_c) / dt, dtype=np.float32)
+    u_rel = {e.name: (e.u_std_w_m2k / e.u_w_m2k if e.u_w_m2k > 0 else None) for e in out.elements}
+    settings = defects_mod.DefectSettings(delta_f=survey.analysis.defect_threshold,
+                                          min_area_m2=survey.analysis.defect_min_area_m2)
+    lim = (limits[0].value if limits[0] is not None else None,
+           limits[1].value if limits[1] is not None else None)
+    out.defects = defects_mod.find_defects(
+        obj, f_map, q_map, area_map, regions, tg.side, dt, _hdd(survey),
+        limits=lim, settings=settings, pair=pair, u_rel_std=u_rel, thermogram_id=tg.id)
+    for res in out.elements:
+        res.coverage_share = _coverage(res, regions[res.name], out.defects, area_map)
+    return out
+
+
+def _hdd(survey: Survey) -> float:
+    hdd = survey.climate.heating_degree_days_kd
+    return float("nan") if hdd is None else hdd
+
+
+def _coverage(res: ElementResult, reg, defects, area_map) -> float | None:
+    """Share of the net area within the reference level: 1 − (defect area / net area)."""
+    total = reg.area_m2
+    bad = sum(d.area_m2 for d in defects if d.element == res.name
+              and d.defect_class != "unexplained")
+    return max(0.0, 1.0 - bad / total) if total > 0 else None
+
+
+# --------------------------------------------------------------------------- time series
+def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
+    """ISO 9869-1 average method over a logged sequence of thermograms of one element."""
+    tg = survey.thermogram(sr.thermogram)
+    label = str(sr.air_log.relative_to(survey.root))
+    log = load_air_log(sr.air_log, label)
+    rows = log[log["frame"].notna() & (log["frame"].astype(str).str.strip() != "")]
+    if len(rows) < 3:
+        raise SurveyError("expected at least 3 rows with a frame", label, "frame")
+    base_obj, regions, *_ = correct_thermogram(survey, tg)
+    if sr.element not in regions:
+        raise SurveyError(f"element '{sr.element}' has no outline in thermogram '{tg.id}'",
+                          survey.file.name, f"series[{sr.id}].element")
+    reg = regions[sr.element]
+    el = survey.elements[sr.element]
+    eps = emissivity_of(survey, tg, sr.element)[0]
+    band = survey.camera.band_um
+    ex = tg.export
+    refl = rows["reflected_c"].to_numpy(float) if "reflected_c" in rows else np.full(len(rows), tg.reflected_c)
+    tau = tg.transmittance if tg.transmittance is not None else 1.0
+    masks: dict = {}
+
+    def mask_for(shape):
+        if shape not in masks:
+            if shape == base_obj.shape:
+                masks[shape] = _zone(reg)
+            else:  # same view at another resolution: scale the outline
+                import shapely
+
+                sy, sx = shape[0] / base_obj.shape[0], shape[1] / base_obj.shape[1]
+                poly = reg.polygon_net
+                if reg.reference_mask is not None:
+                    ref = [o for o in geometry_outlines(survey, tg) if o.element == sr.element and o.role == "reference"]
+                    if ref:
+                        poly = ref[0].polygon.intersection(poly)
+                poly = shapely.transform(poly, lambda xy: xy * np.array([sx, sy]))
+                masks[shape] = geometry.rasterise(poly, shape)
+        return masks[shape]
+
+    frame_shape = {}
+
+    def frames():
+        for i, rel in enumerate(rows["frame"].astype(str)):
+            path = sr.air_log.parent / rel.strip()
+            flabel = str(path.relative_to(survey.root)) if path.is_relative_to(survey.root) else rel
+            readings = load_pixels(path, flabel)
+            if not frame_shape:
+                frame_shape["shape"] = readings.shape
+            elif readings.shape != frame_shape["shape"]:
+                raise SurveyError(f"frame shape {readings.shape} differs from the first frame's "
+                                  f"{frame_shape['shape']}", flabel)
+            app = radiometry.blackbody_reading(readings, ex.emissivity, ex.reflected_c,
+                                               ex.transmittance, ex.atmosphere_c, band_um=band)
+            if progress:
+                progress("series")
+            yield np.asarray(radiometry.object_temperature(app, eps, refl[i], tau, None, band_um=band))
+
+    first = load_pixels(sr.air_log.parent / str(rows["frame"].iloc[0]).strip(), label)
+    mask = mask_for(first.shape)
+    model = survey.analysis.interior_convection
+    res = transmittance.series_u_from_frames(
+        frames(), mask, rows["indoor_air_c"].to_numpy(float), rows["outdoor_air_c"].to_numpy(float),
+        refl, eps, model, rows["hours"].to_numpy(float), direction=el.heat_flow, height_m=el.height_m)
+    return {"id": sr.id, "element": sr.element, "thermogram": tg.id, "u_w_m2k": res.u_w_m2k,
+            "duration_h": res.duration_h, "n_frames": res.n_samples, "converged": res.converged,
+            "u_running_w_m2k": [float(x) for x in res.u_running_w_m2k],
+            "times_h": [float(x) for x in res.times_h],
+            "checks": list(res.checks)}
+
+
+def geometry_outlines(survey: Survey, tg: Thermogram):
+    shape = load_pixels(tg.file).shape
+    return geometry.read_outlines(tg.outlines, shape, tuple(survey.elements))
+
+
+# --------------------------------------------------------------------------- whole survey
+def _best_elements(results: list[ElementResult]) -> dict[str, ElementResult]:
+    """One result per element for the energy balance: valid first, interior, calibrated,
+    then the smallest standard uncertainty."""
+    best: dict[str, ElementResult] = {}
+    for r in results:
+        key = (not r.u_valid, r.side != "interior", not r.calibrated, r.u_std_w_m2k)
+        cur = best.get(r.name)
+        if cur is None or key < (not cur.u_valid, cur.side != "interior", not cur.calibrated,
+                                 cur.u_std_w_m2k):
+            best[r.name] = r
+    return best
+
+
+def _measures(survey: Survey, defects: list) -> list:
+    out = []
+    default_classes = {"seal_leak": ("air leakage",), "fix_bridge": ("linear thermal bridge",
+                                                                     "repeating thermal bridge")}
+    for m in survey.measures:
+        ids: tuple = ()
+        if m.kind in default_classes:
+            classes = m.defect_classes or default_classes[m.kind]
+            ids = tuple(d.id for d in defects if d.defect_class in classes
+                        and (not m.elements or d.element in m.elements))
+        out.append(energy.Measure(
+            name=m.name, kind=m.kind, elements=m.elements if m.kind in ("add_layer", "replace_glazing") else (),
+            defects=ids, thickness_m=m.thickness_m, conductivity_w_mk=m.conductivity_w_mk,
+            new_u_w_m2k=m.new_u_w_m2k, new_psi_w_mk=m.new_psi_w_mk,
+            leak_fraction_removed=m.leak_fraction_removed, cost=m.cost))
+    return out
+
+
+def assess_survey(survey: Survey, progress: Progress | None = None) -> Assessment:
+    """Assess every thermogram, series and the energy case of a loaded survey."""
+    from . import defects as defects_mod
+
+    tick = progress or (lambda stage: None)
+    notes: list[str] = []
+    checks = survey_checks(survey)
+    mould, cond, note = frsi_limits(survey)
+    if note:
+        notes.append(note)
+    limits = (mould, cond)
+    depressurised = {p.depressurised: p for p in survey.pressure_pairs}
+    baselines = {p.baseline: p for p in survey.pressure_pairs}
+    tresults: list[ThermogramResult] = []
+    failures: list[dict] = []
+    pair_images: dict[str, np.ndarray] = {}
+    order = sorted(survey.thermograms, key=lambda t: t.id not in depressurised)
+    for tg in order:
+        try:
+            if tg.id in depressurised:
+                obj, *_ = correct_thermogram(survey, tg)
+                pair_images[tg.id] = obj
+                tr = ThermogramResult(tg, "paired", object_c=obj,
+                                      paired_with=depressurised[tg.id].baseline)
+            else:
+                pair = None
+                if tg.id in baselines and baselines[tg.id].depressurised in pair_images:
+                    p = baselines[tg.id]
+                    pair = (pair_images[p.depressurised], p.pressure_difference_pa)
+                tr = assess_thermogram(survey, tg, limits, checks, pair=pair)
+                if tg.id in baselines:
+                    tr.paired_with = baselines[tg.id].depressurised
+        except (SurveyError, ValueError, FloatingPointError) as exc:
+            # one bad thermogram never loses the others (SPEC §6); a ValueError from a physics
+            # function here means input it cannot use (e.g. an element with no valid pixel)
+            msg = str(exc) if isinstance(exc, SurveyError) else f"{tg.id}: {exc}"
+            failures.append({"thermogram": tg.id, "file": str(tg.file.relative_to(survey.root)),
+                             "error": msg})
+            tr = ThermogramResult(tg, "failed", error=msg)
+        tick("thermograms")
+        tresults.append(tr)
+    tresults.sort(key=lambda r: [t.id for t in survey.thermograms].index(r.thermogram.id))
+
+    all_defects = defects_mod.rank_defects([d for t in tresults for d in t.defects])
+    elements = [e for t in tresults for e in t.elements]
+    series = []
+    for sr in survey.series:
+        try:
+            series.append(assess_series(survey, sr))
+        except SurveyError as exc:
+            failures.append({"thermogram": f"series {sr.id}", "file": str(sr.air_log.relative_to(survey.root)),
+                             "error": str(exc)})
+        tick("series")
+
+    heat, measures, package = energy_case(survey, elements, all_defects, checks, notes)
+    return Assessment(survey, checks, mould, cond, tresults, elements, all_defects, heat,
+                      measures, package, series, failures, notes)
+
+
+def energy_case(survey: Survey, elements: list, defects: list, checks: list, notes: list):
+    """Builder verdicts on every element result, then H, annual loss and the retrofit case."""
+    c, cl = survey.conditions, survey.climate
+    dt = c.indoor_air_c - c.outdoor_air_c
+    survey_ok = all(ch.status != "fail" for ch in checks)
+    for e in elements:
+        if e.u_specified_w_m2k is not None:
+            ok = survey_ok and all(ch.status != "fail" for ch in e.checks) and e.u_valid
+            e.verdict, e.verdict_reason = energy.builder_verdict(
+                e.u_low95_w_m2k, e.u_high95_w_m2k, e.u_specified_w_m2k,
+                survey.analysis.verdict_tolerance_w_m2k, checks_ok=ok)
+    best = _best_elements(elements)
+    usable = [r for r in best.values() if r.u_valid]
+    if not usable:
+        notes.append("no valid element U: heat loss not computed")
+        return None, [], None
+    missing = sorted(set(survey.elements) - set(best))
+    if missing:
+        notes.append("elements not seen in any assessed thermogram (left out of the heat "
+                      "loss): " + ", ".join(missing))
+    el_loss = [energy.ElementLoss(r.name, r.u_w_m2k, r.u_std_w_m2k, r.area_net_m2) for r in usable]
+    d_loss = [energy.defect_loss_from_result(
+        {"id": d.id, "psi_w_mk": d.psi_w_mk, "length_m": d.length_m, "chi_w_k": d.chi_w_k,
+         "extra_w": d.extra_w, "extra_w_std": d.extra_w_std, "class": d.defect_class,
+         "element": d.element}, dt) for d in defects if d.defect_class != "unexplained"]
+    hl = energy.heat_loss_coefficient(el_loss, d_loss)
+    heat = hl.to_dict()
+    heat["q_survey_w"] = float(energy.heat_loss_w(hl.h_w_k, c.indoor_air_c, c.outdoor_air_c))
+    heat["design_indoor_c"], heat["design_outdoor_c"] = cl.design_indoor_c, cl.design_outdoor_c
+    heat["q_design_w"] = (float(energy.heat_loss_w(hl.h_w_k, cl.design_indoor_c, cl.design_outdoor_c))
+                          if cl.design_indoor_c is not None and cl.design_outdoor_c is not None else None)
+    heat["hdd_kd"] = cl.heating_degree_days_kd
+    if cl.heating_degree_days_kd is not None:
+        heat["annual_kwh"] = float(energy.annual_heat_loss_kwh(hl.h_w_k, cl.heating_degree_days_kd))
+        heat["annual_kwh_std"] = float(energy.annual_heat_loss_kwh(hl.h_std_w_k, cl.heating_degree_days_kd))
+    else:
+        heat["annual_kwh"] = heat["annual_kwh_std"] = None
+        notes.append("no heating degree-days ([climate] heating_degree_days_kd): annual figures left out")
+    measures, package = [], None
+    p = survey.prices
+    if survey.measures and p.energy_price_per_kwh is not None and cl.heating_degree_days_kd:
+        prices = energy.EnergyPrices(p.energy_price_per_kwh, p.heating_efficiency,
+                                     p.co2_kg_per_kwh or 0.0, p.currency)
+        ms = _measures(survey, defects)
+        measures = [m.to_dict() for m in energy.evaluate_measures(ms, el_loss, d_loss, prices,
+                                                                  cl.heating_degree_days_kd)]
+        package = energy.package_result(ms, el_loss, d_loss, prices, cl.heating_degree_days_kd).to_dict()
+    elif survey.measures:
+        notes.append("measures given but no energy price or degree-days: retrofit case left out")
+    return heat, measures, package

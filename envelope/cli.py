@@ -1,0 +1,317 @@
+"""Command line (edge): parse, call, format. Exit codes: 0 done; 2 user error (one line, no
+traceback, nothing written); 3 done but some thermograms failed (listed in the results);
+130 interrupted (nothing written)."""
+
+from __future__ import annotations
+
+import json
+import sys
+import warnings
+from enum import Enum
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from .errors import EnvelopeWarning, SurveyError
+
+EXIT_USER_ERROR = 2
+EXIT_PARTIAL = 3
+EXIT_INTERRUPTED = 130
+
+app = typer.Typer(
+    name="envelope",
+    help="From a thermal-camera survey of a house to corrected surface temperatures, in-situ "
+         "U-values with uncertainty, condensation and mould risk, ranked defects, a retrofit "
+         "case and reports. Temperatures in °C, U in W/(m²·K).",
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+)
+
+SurveyArg = Annotated[Path, typer.Argument(help="Survey folder (holding survey.toml) or the .toml file itself.")]
+OutOpt = Annotated[Path, typer.Option("--out", "-o", help="New output folder; must not exist or be empty.")]
+QuietOpt = Annotated[bool, typer.Option("--quiet", "-q", help="No progress or summary on the terminal.")]
+ReplaceOpt = Annotated[bool, typer.Option("--replace", help="Replace an existing output folder (only once the new one is complete).")]
+
+
+def _fail(exc: Exception) -> None:
+    typer.echo(f"envelope: error: {exc}", err=True)
+    raise typer.Exit(EXIT_USER_ERROR)
+
+
+def _load(path: Path):
+    from .survey import load_survey
+
+    return load_survey(path)
+
+
+def _warn_to_stderr(quiet: bool):
+    def show(message, category, filename, lineno, file=None, line=None):
+        if not quiet:
+            typer.echo(f"envelope: warning: {message}", err=True)
+    warnings.showwarning = show
+    warnings.simplefilter("default", EnvelopeWarning)
+
+
+class _Progress:
+    """A rich progress bar on stderr (silent when quiet)."""
+
+    def __init__(self, total: int, quiet: bool):
+        self.quiet = quiet
+        self.bar = None
+        if not quiet:
+            from rich.console import Console
+            from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+            self.bar = Progress(TextColumn("{task.description:<12}"), BarColumn(),
+                                TextColumn("{task.completed}/{task.total}"), TimeElapsedColumn(),
+                                console=Console(stderr=True), transient=True)
+            self.task = self.bar.add_task("assessing", total=total)
+
+    def __enter__(self):
+        if self.bar:
+            self.bar.__enter__()
+        return self
+
+    def __exit__(self, *exc):
+        if self.bar:
+            self.bar.__exit__(*exc)
+
+    def __call__(self, stage: str):
+        if self.bar:
+            self.bar.update(self.task, advance=1, description=stage)
+
+
+@app.command()
+def inspect(
+    survey: SurveyArg,
+    materials: Annotated[bool, typer.Option("--materials", help="Also list the emissivity table with sources.")] = False,
+    json_out: Annotated[bool, typer.Option("--json", help="Print what was found as JSON.")] = False,
+):
+    """Load and validate a survey (TOML, pixel files, outlines) and print what it holds."""
+    from . import geometry
+    from .survey import load_pixels
+
+    try:
+        s = _load(survey)
+        thermos = []
+        for t in s.thermograms:
+            img = load_pixels(t.file, str(t.file.relative_to(s.root)))
+            outl = geometry.read_outlines(t.outlines, img.shape, tuple(s.elements))
+            thermos.append({"id": t.id, "side": t.side, "shape_px": list(img.shape),
+                            "elements": sorted({o.element for o in outl if o.role == "element"}),
+                            "reference_zones": sorted({o.element for o in outl if o.role == "reference"}),
+                            "reading_range_c": [float(f"{img[~(img != img)].min():.2f}"),
+                                                float(f"{img[~(img != img)].max():.2f}")]})
+    except SurveyError as exc:
+        _fail(exc)
+    from .assess import survey_checks
+
+    checks = survey_checks(s)
+    info = {"site": s.site.name, "date": s.date,
+            "elements": [{"name": e.name, "kind": e.kind, "u_specified_w_m2k": e.u_specified_w_m2k}
+                         for e in s.elements.values()],
+            "thermograms": thermos, "series": [sr.id for sr in s.series],
+            "pressure_pairs": [[p.baseline, p.depressurised, p.pressure_difference_pa] for p in s.pressure_pairs],
+            "measures": [m.name for m in s.measures],
+            "checks": [{"name": c.name, "status": c.status, "rule": c.rule} for c in checks]}
+    if json_out:
+        typer.echo(json.dumps(info, indent=2, ensure_ascii=False))
+        return
+    c = s.conditions
+    typer.echo(f"Survey: {s.site.name}, {s.site.town}  {s.date}   indoor {c.indoor_air_c:.1f} °C, "
+               f"outdoor {c.outdoor_air_c:.1f} °C, wind {c.wind_m_s:.1f} m/s")
+    typer.echo(f"{len(s.elements)} elements:")
+    for e in s.elements.values():
+        spec = f"  specified U {e.u_specified_w_m2k:.2f} W/(m²·K)" if e.u_specified_w_m2k else ""
+        typer.echo(f"  {e.name:<28} {e.kind:<8}{spec}")
+    typer.echo(f"{len(thermos)} thermograms:")
+    for t in thermos:
+        typer.echo(f"  {t['id']:<28} {t['side']:<9} {t['shape_px'][1]}×{t['shape_px'][0]} px  "
+                   f"{t['reading_range_c'][0]:.1f}…{t['reading_range_c'][1]:.1f} °C  "
+                   f"elements: {', '.join(t['elements'])}")
+    if s.series:
+        typer.echo("series: " + ", ".join(info["series"]))
+    for p in s.pressure_pairs:
+        typer.echo(f"pressure pair: {p.baseline} / {p.depressurised} at {p.pressure_difference_pa:g} Pa")
+    typer.echo("validity of the night:")
+    for ch in checks:
+        typer.echo(f"  [{ch.status:^5}] {ch.name}: {ch.rule}")
+    if materials:
+        from .radiometry import MATERIALS
+
+        typer.echo("emissivity table:")
+        for key, m in MATERIALS.items():
+            typer.echo(f"  {key:<32} {m.emissivity:.2f}  {m.source}")
+
+
+@app.command()
+def correct(survey: SurveyArg, out: OutOpt, replace: ReplaceOpt = False, quiet: QuietOpt = False):
+    """Write the corrected surface-temperature image [°C, float32 TIFF] of every thermogram."""
+    import numpy as np
+    import tifffile
+
+    from .assess import correct_thermogram
+    from .outputs import staged_folder
+
+    _warn_to_stderr(quiet)
+    try:
+        s = _load(survey)
+        with staged_folder(out, replace) as tmp:
+            index = []
+            for t in s.thermograms:
+                obj, _, h, _, eps, tau, _, _ = correct_thermogram(s, t)
+                tifffile.imwrite(tmp / f"{t.id}-surface-c.tif", obj.astype(np.float32),
+                                 compression="zlib", metadata=None)
+                index.append({"id": t.id, "file": f"{t.id}-surface-c.tif", "transmittance": float(tau),
+                              "unit": "°C"})
+                if not quiet:
+                    typer.echo(f"corrected {t.id}  (τ = {tau:.4f})", err=True)
+            (tmp / "corrected.json").write_text(json.dumps(index, indent=2, sort_keys=True) + "\n")
+    except SurveyError as exc:
+        _fail(exc)
+    except KeyboardInterrupt:
+        typer.echo("envelope: interrupted; nothing written", err=True)
+        raise typer.Exit(EXIT_INTERRUPTED) from None
+    if not quiet:
+        typer.echo(f"wrote {len(index)} corrected images to {out}")
+
+
+@app.command()
+def assess(
+    survey: SurveyArg,
+    out: OutOpt,
+    replace: ReplaceOpt = False,
+    quiet: QuietOpt = False,
+    json_out: Annotated[bool, typer.Option("--json", help="Print a summary as JSON on stdout (for scripts).")] = False,
+    draws: Annotated[int | None, typer.Option("--draws", min=100, help="Monte Carlo draws per element (overrides [analysis] monte_carlo_draws).")] = None,
+):
+    """Assess a survey: corrected temperatures, U-values with 95 % intervals, fRsi and
+    mould/condensation risk, ranked defects, heat loss, retrofit case and the reports."""
+    import dataclasses
+
+    from .assess import assess_survey
+    from .outputs import staged_folder, write_outputs
+
+    _warn_to_stderr(quiet or json_out)
+    try:
+        s = _load(survey)
+        if draws is not None:
+            s = dataclasses.replace(s, analysis=dataclasses.replace(s.analysis, monte_carlo_draws=draws))
+        steps = len(s.thermograms) * 2 + len(s.series) + 2
+        with _Progress(steps, quiet or json_out) as progress, staged_folder(out, replace) as tmp:
+            a = assess_survey(s, progress)
+            if len(a.failures) == len(s.thermograms) + len(s.series):
+                raise SurveyError("no thermogram could be assessed: " + "; ".join(
+                    f["error"] for f in a.failures))
+            results = write_outputs(a, tmp, progress)
+    except SurveyError as exc:
+        _fail(exc)
+    except KeyboardInterrupt:
+        typer.echo("envelope: interrupted; no output folder written", err=True)
+        raise typer.Exit(EXIT_INTERRUPTED) from None
+    summary = _summary(results, out)
+    if json_out:
+        typer.echo(json.dumps(summary, indent=2, sort_keys=True, ensure_ascii=False))
+    elif not quiet:
+        _print_summary(summary)
+    if results["failures"]:
+        raise typer.Exit(EXIT_PARTIAL)
+
+
+def _summary(results: dict, out: Path) -> dict:
+    hl = results.get("heat_loss") or {}
+    return {
+        "out": str(out),
+        "elements": [{k: e.get(k) for k in ("name", "thermogram", "u_w_m2k", "u_low95_w_m2k",
+                                            "u_high95_w_m2k", "risk", "verdict")}
+                     for e in results["elements"]],
+        "defects": [{k: d.get(k) for k in ("rank", "id", "class", "element", "kwh_per_year", "risk")}
+                    for d in results["defects"]],
+        "h_w_k": hl.get("h_w_k"), "annual_kwh": hl.get("annual_kwh"),
+        "failures": results["failures"],
+    }
+
+
+def _print_summary(s: dict) -> None:
+    typer.echo(f"Elements ({len(s['elements'])}):")
+    for e in s["elements"]:
+        u = e["u_w_m2k"]
+        iv = f"[{e['u_low95_w_m2k']:.2f}, {e['u_high95_w_m2k']:.2f}]" if e["u_low95_w_m2k"] is not None else ""
+        extra = "".join(f"  {k}: {e[k]}" for k in ("risk", "verdict") if e.get(k))
+        typer.echo(f"  {e['name']:<26} {e['thermogram']:<22} U {u:.2f} W/(m²·K) 95 % {iv}{extra}")
+    typer.echo(f"Defects ({len(s['defects'])}), ranked:")
+    for d in s["defects"][:10]:
+        kwh = f"{d['kwh_per_year']:.0f} kWh/yr" if d.get("kwh_per_year") is not None else ""
+        typer.echo(f"  {d['rank']:>2}. {d['id']:<4} {d['class']:<26} {d['element']:<24} {kwh}  risk: {d['risk']}")
+    if s["h_w_k"] is not None:
+        annual = f", about {s['annual_kwh']:.0f} kWh/yr" if s["annual_kwh"] is not None else ""
+        typer.echo(f"Fabric heat-loss coefficient H = {s['h_w_k']:.1f} W/K{annual}")
+    for f in s["failures"]:
+        typer.echo(f"FAILED {f['thermogram']}: {f['error']}", err=True)
+    typer.echo(f"Outputs in {s['out']} (report.html, check.html, summary.html, summary.pdf)")
+
+
+@app.command()
+def rerender(
+    out_dir: Annotated[Path, typer.Argument(help="An output folder written by `envelope assess`.")],
+    quiet: QuietOpt = False,
+):
+    """Rewrite the reports of an existing output folder from its results.json (no recomputing)."""
+    from .report import write_reports
+
+    try:
+        res_path = Path(out_dir) / "results.json"
+        if not res_path.is_file():
+            raise SurveyError("no results.json here; expected a folder written by `envelope assess`", str(out_dir))
+        try:
+            results = json.loads(res_path.read_text(encoding="utf-8"))
+        except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+            raise SurveyError(f"not valid JSON ({exc})", str(res_path)) from None
+        if results.get("schema") != "envelope-results":
+            raise SurveyError("not an envelope results file", str(res_path), "schema")
+        write_reports(results, Path(out_dir), Path(out_dir) / "figures")
+    except SurveyError as exc:
+        _fail(exc)
+    if not quiet:
+        typer.echo(f"reports rewritten in {out_dir}")
+
+
+@app.command()
+def outline(
+    survey: SurveyArg,
+    thermogram: Annotated[str, typer.Argument(help="Id of the thermogram to draw on.")],
+    outlines: Annotated[Path | None, typer.Option("--file", help="GeoJSON to write (default: the thermogram's outlines file).")] = None,
+):
+    """Draw element outlines and reference zones on a corrected thermogram (opens a window)."""
+    from .assess import _correct
+    from .editor import run_editor
+    from .survey import load_pixels
+
+    try:
+        s = _load(survey)
+        try:
+            tg = s.thermogram(thermogram)
+        except KeyError:
+            raise SurveyError(f"no thermogram '{thermogram}'; ids: {', '.join(t.id for t in s.thermograms)}",
+                              s.file.name, "thermograms.id") from None
+        import numpy as np
+
+        img = load_pixels(tg.file, str(tg.file.relative_to(s.root)))
+        eps = np.full(img.shape, tg.emissivity_default or 0.93, np.float32)
+        obj = _correct(s, tg, img, eps)[0]
+    except SurveyError as exc:
+        _fail(exc)
+    run_editor(obj, outlines or tg.outlines, element_names=tuple(s.elements), title=tg.id)
+
+
+def main() -> None:  # pragma: no cover - console entry
+    try:
+        app()
+    except KeyboardInterrupt:
+        sys.exit(EXIT_INTERRUPTED)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

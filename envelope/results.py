@@ -1,0 +1,201 @@
+"""Assessment → the versioned results dict, ``results.json`` and the CSV tables (edge).
+
+Schema ``envelope-results`` version 1: every number carries its unit in its key
+(``_c`` °C, ``_k`` K, ``_m2`` m², ``_w`` W, ``_w_k`` W/K, ``_w_m2k`` W/(m²·K), ``_w_mk``
+W/(m·K), ``_kwh`` kWh, shares and rh as fractions 0–1). Keys are sorted and there are no
+timestamps, so the same survey gives a byte-identical file on every run.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+
+from . import __version__
+
+SCHEMA = "envelope-results"
+SCHEMA_VERSION = 1
+SIGNIFICANT = 6
+
+ELEMENT_COLUMNS = (
+    "name", "kind", "thermogram", "side", "area_net_m2", "emissivity", "u_w_m2k",
+    "u_std_w_m2k", "u_low95_w_m2k", "u_high95_w_m2k", "u_whole_w_m2k", "u_valid", "u_method",
+    "h_c_model", "h_c_w_m2k", "calibrated", "frsi_min", "frsi_p05", "frsi_limit_mould",
+    "frsi_limit_condensation", "risk", "t_si_design_c", "rh_si_design", "u_specified_w_m2k",
+    "verdict", "coverage_share",
+)
+DEFECT_COLUMNS = (
+    "rank", "id", "thermogram", "element", "class", "class_confidence", "risk", "score_text",
+    "area_m2", "length_m", "width_m", "junction", "extra_w", "extra_w_std", "psi_w_mk",
+    "chi_w_k", "incidence_factor", "kwh_per_year", "frsi_min", "frsi_p05", "reasons",
+)
+MEASURE_COLUMNS = (
+    "name", "kind", "targets", "cost", "kwh_saved_per_year", "kwh_saved_low", "kwh_saved_high",
+    "money_per_year", "co2_kg_per_year", "payback_years",
+)
+
+
+def clean(obj):
+    """JSON-ready copy: numpy → Python, NaN/inf → None, floats to `SIGNIFICANT` digits."""
+    if isinstance(obj, dict):
+        return {str(k): clean(v) for k, v in obj.items()}
+    if isinstance(obj, list | tuple):
+        return [clean(v) for v in obj]
+    if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
+        return clean(dataclasses.asdict(obj))
+    if isinstance(obj, np.ndarray):
+        return clean(obj.tolist())
+    if isinstance(obj, bool | np.bool_):
+        return bool(obj)
+    if isinstance(obj, int | np.integer):
+        return int(obj)
+    if isinstance(obj, float | np.floating):
+        x = float(obj)
+        if not math.isfinite(x):
+            return None
+        return float(f"{x:.{SIGNIFICANT}g}")
+    if isinstance(obj, Path):
+        return obj.as_posix()
+    return obj
+
+
+def _check(ch) -> dict:
+    return {"name": ch.name, "status": ch.status, "value": ch.value, "unit": ch.unit,
+            "rule": ch.rule, "scope": getattr(ch, "scope", "survey")}
+
+
+def _limit(lim):
+    if lim is None:
+        return None
+    return {"value": lim.value, "critical_month": getattr(lim, "critical_month", None),
+            "method": lim.method, "critical_rh": getattr(lim, "critical_rh", None)}
+
+
+def figure_paths(tid: str, side: str, status: str) -> dict:
+    """Figure files of one thermogram, relative to the output folder."""
+    if status == "failed":
+        return {}
+    paths = {"corrected": f"figures/{tid}-corrected.png"}
+    if status == "assessed":
+        paths["overlay"] = f"figures/{tid}-outlines.png"
+        paths["defects"] = f"figures/{tid}-defects.png"
+        if side == "interior":
+            paths["frsi"] = f"figures/{tid}-frsi.png"
+    return paths
+
+
+def to_results(a) -> dict:
+    """The results dict (schema version 1) of an `assess.Assessment`."""
+    from .defects import defect_to_dict
+
+    s = a.survey
+    c = s.conditions
+    elements = []
+    for e in a.elements:
+        d = dataclasses.asdict(e)
+        d["checks"] = [_check(ch) for ch in e.checks]
+        d["frsi_limit_mould"] = a.limit_mould.value if a.limit_mould else None
+        d["frsi_limit_condensation"] = a.limit_condensation.value if a.limit_condensation else None
+        elements.append(d)
+    thermograms = []
+    for t in a.thermograms:
+        tg = t.thermogram
+        thermograms.append({
+            "id": tg.id, "side": tg.side, "file": tg.file.relative_to(s.root).as_posix(),
+            "status": t.status, "error": t.error, "paired_with": t.paired_with,
+            "transmittance": t.transmittance, "reflected_c": tg.reflected_c,
+            "view_angle_deg": tg.view_angle_deg, "distance_m": tg.distance_m,
+            "scale": None if t.homography is None else {
+                "method": t.homography.method, "rms_error_m": t.homography.rms_error_m,
+                "fronto_parallel_assumed": t.homography.fronto_parallel_assumed},
+            "figures": figure_paths(tg.id, tg.side, t.status),
+            "checks": [_check(ch) for ch in t.checks],
+        })
+    series = []
+    for sr in a.series:
+        d = dict(sr)
+        d["checks"] = [_check(ch) for ch in sr["checks"]]
+        series.append(d)
+    out = {
+        "schema": SCHEMA, "schema_version": SCHEMA_VERSION, "tool_version": __version__,
+        "survey": {
+            "site": dataclasses.asdict(s.site), "surveyor": s.surveyor, "client": s.client,
+            "date": s.date, "currency": s.prices.currency,
+            "conditions": {"indoor_air_c": c.indoor_air_c, "outdoor_air_c": c.outdoor_air_c,
+                           "indoor_rh": c.indoor_rh, "outdoor_rh": c.outdoor_rh,
+                           "wind_m_s": c.wind_m_s, "rain": c.rain,
+                           "sky_cloud_oktas": c.sky_cloud_oktas},
+            "camera": {"label": s.camera.label, "band_um": list(s.camera.band_um),
+                       "accuracy_k": s.camera.accuracy_k,
+                       "relative_accuracy_k": s.camera.relative_accuracy_k,
+                       "noise_k": s.camera.noise_k},
+            "analysis": dataclasses.asdict(s.analysis),
+        },
+        "checks": [_check(ch) for ch in a.checks],
+        "frsi_limit": {"mould": _limit(a.limit_mould), "condensation": _limit(a.limit_condensation)},
+        "thermograms": thermograms,
+        "elements": elements,
+        "defects": [defect_to_dict(d) for d in a.defects],
+        "heat_loss": a.heat_loss,
+        "measures": a.measures,
+        "package": a.package,
+        "series": series,
+        "failures": a.failures,
+        "notes": list(a.notes),
+    }
+    return clean(out)
+
+
+def dumps(results: dict) -> str:
+    """Canonical JSON text: sorted keys, two-space indent, UTF-8, trailing newline."""
+    return json.dumps(results, sort_keys=True, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def _frame(rows: list[dict], columns: tuple[str, ...]):
+    import pandas as pd
+
+    flat = []
+    for r in rows:
+        row = {}
+        for col in columns:
+            v = r.get(col)
+            if col == "class_confidence":
+                conf = r.get("confidence") or {}
+                v = max(conf.values()) if conf else None
+            if isinstance(v, list | tuple):
+                v = "; ".join(str(x) for x in v)
+            row[col] = v
+        flat.append(row)
+    return pd.DataFrame(flat, columns=list(columns))
+
+
+def elements_table(results: dict):
+    """Elements as a pandas DataFrame (one row per element and thermogram)."""
+    return _frame(results.get("elements") or [], ELEMENT_COLUMNS)
+
+
+def defects_table(results: dict):
+    """Ranked defects as a pandas DataFrame."""
+    return _frame(results.get("defects") or [], DEFECT_COLUMNS)
+
+
+def measures_table(results: dict):
+    """Retrofit measures, then the package, as a pandas DataFrame."""
+    rows = list(results.get("measures") or [])
+    if results.get("package"):
+        rows.append(results["package"])
+    return _frame(rows, MEASURE_COLUMNS)
+
+
+def write_tables(results: dict, out_dir: Path) -> None:
+    """``results.json``, ``elements.csv``, ``defects.csv``, ``measures.csv`` in `out_dir`."""
+    out_dir = Path(out_dir)
+    (out_dir / "results.json").write_text(dumps(results), encoding="utf-8")
+    for name, table in (("elements", elements_table), ("defects", defects_table),
+                        ("measures", measures_table)):
+        table(results).to_csv(out_dir / f"{name}.csv", index=False, float_format="%.6g",
+                              lineterminator="\n")

@@ -1,0 +1,150 @@
+"""Shared fixtures: a small valid survey written by the forward model, to be broken by tests.
+
+The scene is invented and synthesised (consistency only, never a reference value).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+os.environ.setdefault("MPLBACKEND", "Agg")
+
+T_I, T_E = 21.0, 1.0
+U_WALL, U_WINDOW = 0.5, 2.8
+H_C = 2.5  # ISO 6946 conventional interior h_c, horizontal heat flow
+SHAPE = (120, 160)
+PX_PER_M = 40.0  # 4.0 m × 3.0 m wall seen fronto-parallel
+
+SURVEY_TOML = """\
+format = "envelope-survey"
+version = 1
+
+[site]
+name = "Test Cottage"
+town = "Nowhere Parva"
+
+[survey]
+date = "2026-01-10"
+surveyor = "T. Tester"
+
+[conditions]
+indoor_air_c = 21.0
+outdoor_air_c = 1.0
+indoor_rh = 0.5
+outdoor_rh = 0.85
+wind_m_s = 1.0
+sky_cloud_oktas = 8
+outdoor_history_c = [1.5, 1.3, 1.2, 1.0]
+
+[camera]
+accuracy_k = 1.0
+relative_accuracy_k = 0.1
+noise_k = 0.05
+
+[climate]
+heating_degree_days_kd = 2200
+design_indoor_c = 21.0
+design_outdoor_c = -3.0
+monthly_outdoor_c = [2.0, 2.5, 4.5, 7.0, 10.5, 13.5, 15.5, 15.0, 12.5, 9.5, 5.5, 3.0]
+monthly_outdoor_rh = [0.88, 0.85, 0.82, 0.78, 0.77, 0.78, 0.79, 0.81, 0.83, 0.86, 0.88, 0.89]
+monthly_indoor_c = [21, 21, 21, 21, 21, 21, 21, 21, 21, 21, 21, 21]
+humidity_class = 3
+
+[prices]
+currency = "EUR"
+energy_price_per_kwh = 0.10
+heating_efficiency = 0.9
+co2_kg_per_kwh = 0.2
+
+[analysis]
+monte_carlo_draws = 2000
+
+[[elements]]
+name = "test-wall"
+kind = "wall"
+u_specified_w_m2k = 0.6
+emissivity = 0.93
+
+[[elements]]
+name = "test-window"
+kind = "window"
+host = "test-wall"
+emissivity = 0.84
+
+[[thermograms]]
+id = "room-north"
+file = "thermograms/room-north.npy"
+outlines = "outlines/room-north.geojson"
+side = "interior"
+reflected_c = 20.0
+distance_m = 3.0
+transmittance = 1.0
+
+[thermograms.export]
+emissivity = 0.95
+reflected_c = 20.0
+
+[thermograms.known_length]
+pixel_a = [0, 119.5]
+pixel_b = [160, 119.5]
+length_m = 4.0
+
+[[measures]]
+name = "Insulate the wall"
+kind = "add_layer"
+elements = ["test-wall"]
+thickness_m = 0.05
+conductivity_w_mk = 0.025
+cost = 2000
+"""
+
+
+def _rect(x0, y0, x1, y1):
+    return [[[x0, y0], [x1, y0], [x1, y1], [x0, y1], [x0, y0]]]
+
+
+def outlines_geojson() -> dict:
+    return {"type": "FeatureCollection", "features": [
+        {"type": "Feature", "properties": {"element": "test-wall", "role": "element"},
+         "geometry": {"type": "Polygon", "coordinates": _rect(0, 0, 160, 120)}},
+        {"type": "Feature", "properties": {"element": "test-window", "role": "element"},
+         "geometry": {"type": "Polygon", "coordinates": _rect(100, 30, 140, 80)}},
+        {"type": "Feature", "properties": {"element": "test-wall", "role": "reference"},
+         "geometry": {"type": "Polygon", "coordinates": _rect(10, 10, 60, 60)}},
+    ]}
+
+
+def readings(seed: int = 1) -> np.ndarray:
+    """Exported readings [°C] of the test wall and window (forward model, seeded)."""
+    from envelope import radiometry, synth
+
+    u = np.full(SHAPE, U_WALL)
+    eps = np.full(SHAPE, 0.93)
+    u[30:80, 100:140] = U_WINDOW
+    eps[30:80, 100:140] = 0.84
+    t_s = synth.surface_temperature_for_u(u, T_I, T_E, 20.0, eps, H_C)
+    app = synth.render_apparent(t_s, eps, 20.0, noise_k=0.05, offset_k=0.3,
+                                rng=np.random.default_rng(seed))
+    return np.asarray(radiometry.export_reading(app, 0.95, 20.0, 1.0, None), dtype=np.float32)
+
+
+def write_survey(root: Path, toml_text: str = SURVEY_TOML, pixels=None, outlines=None) -> Path:
+    """Write the test survey into `root` and return `root`."""
+    root = Path(root)
+    (root / "thermograms").mkdir(parents=True, exist_ok=True)
+    (root / "outlines").mkdir(parents=True, exist_ok=True)
+    (root / "survey.toml").write_text(toml_text, encoding="utf-8")
+    np.save(root / "thermograms" / "room-north.npy", readings() if pixels is None else pixels)
+    (root / "outlines" / "room-north.geojson").write_text(
+        json.dumps(outlines_geojson() if outlines is None else outlines), encoding="utf-8")
+    return root
+
+
+@pytest.fixture
+def survey_dir(tmp_path) -> Path:
+    return write_survey(tmp_path / "survey")
