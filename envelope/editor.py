@@ -59,7 +59,8 @@ class OutlineEditor:
         an existing one snaps onto it.
     snap_px : float
         A new or dragged vertex within this distance [px] of the horizontal or vertical
-        through its predecessor is snapped onto that line.
+        through its neighbour (the previous vertex, else the one that closes the ring) is
+        snapped onto that line.
     element_names : iterable of str
         Known element names (for the GUI's hints and `problems`).
 
@@ -91,7 +92,6 @@ class OutlineEditor:
         self._moved = False
         self.message = ""
         self._history: list[tuple] = []
-        self._last_name = ""
 
     # -- state helpers ------------------------------------------------------------------
     def _push(self) -> None:
@@ -129,19 +129,22 @@ class OutlineEditor:
                 best = (i, j, float(d[j]))
         return best
 
-    def _snapped(self, x: float, y: float, prev=None, exclude=None) -> tuple[float, float]:
-        """Snap onto an existing vertex, else onto the horizontal/vertical of `prev`."""
+    def _snapped(self, x: float, y: float, prev=None, first=None,
+                 exclude=None) -> tuple[float, float]:
+        """Snap onto an existing vertex, else onto the horizontal/vertical through `prev`
+        (the previous vertex) or `first` (the first vertex: a straight closing edge)."""
         if not self.snap:
             return x, y
         hit = self.nearest_vertex(x, y)
         if hit is not None and (hit[0], hit[1]) != exclude:
             vx, vy = self.polygons[hit[0]]["vertices"][hit[1]]
             return float(vx), float(vy)
-        if prev is not None:
-            if abs(y - prev[1]) <= self.snap_px:
-                y = float(prev[1])
-            if abs(x - prev[0]) <= self.snap_px:
-                x = float(prev[0])
+        refs = [p for p in (prev, first) if p is not None]
+        for axis in (0, 1):
+            for ref in refs:  # the previous vertex first, then the first (closing edge)
+                if abs((x, y)[axis] - ref[axis]) <= self.snap_px:
+                    x, y = (float(ref[0]), y) if axis == 0 else (x, float(ref[1]))
+                    break
         return x, y
 
     def _current_open(self) -> dict | None:
@@ -180,7 +183,7 @@ class OutlineEditor:
             return "select"
         self._push()
         if open_poly is None:
-            self.polygons.append({"element": self._last_name, "role": "element",
+            self.polygons.append({"element": "", "role": "element",
                                   "vertices": [], "holes": [], "closed": False})
             self.current = len(self.polygons) - 1
             open_poly = self.polygons[-1]
@@ -188,7 +191,8 @@ class OutlineEditor:
         else:
             action = "add"
         verts = open_poly["vertices"]
-        sx, sy = self._snapped(float(x), float(y), verts[-1] if verts else None)
+        sx, sy = self._snapped(float(x), float(y), verts[-1] if verts else None,
+                               verts[0] if len(verts) >= 2 else None)
         verts.append(list(self._clamp(sx, sy)))
         self.selected = (self.current, len(verts) - 1)
         self.message = f"outline {self.current}: {len(verts)} vertices"
@@ -204,7 +208,8 @@ class OutlineEditor:
         i, j = self.selected
         verts = self.polygons[i]["vertices"]
         prev = verts[j - 1] if len(verts) > 1 else None
-        sx, sy = self._snapped(float(x), float(y), prev, exclude=(i, j))
+        nxt = verts[(j + 1) % len(verts)] if len(verts) > 2 else None
+        sx, sy = self._snapped(float(x), float(y), prev, nxt, exclude=(i, j))
         verts[j] = list(self._clamp(sx, sy))
         return True
 
@@ -283,7 +288,6 @@ class OutlineEditor:
             return False
         self._push()
         self.polygons[self.current]["element"] = name
-        self._last_name = name
         unknown = self.element_names and name not in self.element_names
         self.message = f"outline {self.current} is {name!r}" + (
             " (not an element of the survey)" if unknown else "")
@@ -450,7 +454,6 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
     ax.set_ylabel("y [px]")
     ax.set_autoscale_on(False)
     text_ax = fig.add_axes((0.12, 0.02, 0.45, 0.05))
-    textbox = TextBox(text_ax, "element ")
     keys = "\n".join(f"{k:<12} {v}" for k, v in SHORTCUTS)
     names = ", ".join(element_names)
     fig.text(0.74, 0.92, keys + (f"\n\nelements:\n{names}" if names else ""),
@@ -496,6 +499,7 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
         editor.release()
 
     def on_key(event):
+        # connected before the text box: while it captures keys they are not shortcuts
         if textbox.capturekeystrokes:
             return
         action = editor.key(event.key)
@@ -514,11 +518,22 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
         else:
             state["confirm_overwrite"] = False
         if action == "edit-name":
-            textbox.begin_typing()
+            textbox.eventson = False
+            textbox.set_val("")  # a fresh name; enter with an empty box changes nothing
+            textbox.eventson = True
+            textbox.cursor_index = 0
+            state["start_typing"] = True  # after the text box has seen this "e"
         if action:
             redraw()
 
+    def after_key(event):
+        if state.pop("start_typing", False):
+            textbox.begin_typing()
+
     def on_name(text):
+        if textbox.capturekeystrokes:  # enter: stop typing, which submits once more
+            textbox.stop_typing()
+            return
         if editor.set_name(text):
             redraw()
 
@@ -526,6 +541,8 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
             fig.canvas.mpl_connect("motion_notify_event", on_motion),
             fig.canvas.mpl_connect("button_release_event", on_release),
             fig.canvas.mpl_connect("key_press_event", on_key)]
+    textbox = TextBox(text_ax, "element ")  # its key handler runs after on_key
+    cids.append(fig.canvas.mpl_connect("key_press_event", after_key))
     textbox.on_submit(on_name)
     redraw()
     handlers = {"press": on_press, "motion": on_motion, "release": on_release, "key": on_key,
