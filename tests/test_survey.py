@@ -1,0 +1,156 @@
+"""Survey loading and bad input (SPEC §6): every broken survey gives a one-line message that
+names the file and the field, exit code 2, and leaves no output folder behind."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+from conftest import SURVEY_TOML, outlines_geojson, readings, write_survey
+from typer.testing import CliRunner
+
+from envelope.cli import app
+from envelope.errors import SurveyError
+from envelope.survey import load_pixels, load_survey
+
+runner = CliRunner()
+
+
+def test_valid_survey_loads(survey_dir):
+    s = load_survey(survey_dir)
+    assert s.site.name == "Test Cottage"
+    assert list(s.elements) == ["test-wall", "test-window"]
+    assert s.elements["test-window"].host == "test-wall"
+    t = s.thermograms[0]
+    assert t.side == "interior" and t.export.emissivity == 0.95
+    assert s.climate.monthly_outdoor_c[0] == 2.0 and len(s.climate.monthly_outdoor_rh) == 12
+    assert s.measures[0].thickness_m == 0.05
+    img = load_pixels(t.file)
+    assert img.dtype == np.float32 and img.shape == (120, 160)
+
+
+def _toml(old, new):
+    assert old in SURVEY_TOML, old
+    return SURVEY_TOML.replace(old, new)
+
+
+def _bowtie():
+    g = outlines_geojson()
+    g["features"][0]["geometry"]["coordinates"] = [[[0, 0], [160, 120], [160, 0], [0, 120], [0, 0]]]
+    return g
+
+
+def _unknown_element():
+    g = outlines_geojson()
+    g["features"][1]["properties"]["element"] = "kitchen-wall"
+    return g
+
+
+def _nan_half():
+    p = readings()
+    p[:80] = np.nan
+    return p
+
+
+# (id, survey mutation, text expected in the message)
+BROKEN = [
+    ("missing-pixel-file", dict(toml=_toml("room-north.npy", "room-south.npy")), "file not found"),
+    ("wrong-shape", dict(pixels=np.zeros((3, 120, 160), np.float32)), "2-D"),
+    ("nan-regions", dict(pixels=_nan_half()), "NaN"),
+    ("emissivity-zero", dict(toml=_toml("emissivity = 0.93", "emissivity = 0.0")), "emissivity"),
+    ("emissivity-above-one", dict(toml=_toml("emissivity = 0.84", "emissivity = 1.2")), "emissivity"),
+    ("unknown-element-in-geojson", dict(outlines=_unknown_element()), "kitchen-wall"),
+    ("self-intersecting-polygon", dict(outlines=_bowtie()), "features[0]"),
+    ("kelvin-by-mistake", dict(pixels=readings() + 273.15), "kelvin"),
+    ("empty-toml", dict(toml=""), "empty"),
+    ("wrong-type", dict(toml=_toml("indoor_air_c = 21.0", 'indoor_air_c = "warm"')), "conditions.indoor_air_c"),
+    ("rh-in-percent", dict(toml=_toml("indoor_rh = 0.5", "indoor_rh = 50")), "percent"),
+    ("typo-key", dict(toml=_toml("reflected_c = 20.0\ndistance_m", "reflectd_c = 20.0\ndistance_m")), "did you mean"),
+    ("wrong-version", dict(toml=_toml("version = 1", "version = 7")), "version"),
+    ("duplicate-element", dict(toml=_toml('name = "test-window"', 'name = "test-wall"')), "duplicate"),
+    ("missing-required", dict(toml=_toml("reflected_c = 20.0\ndistance_m", "distance_m")), "reflected_c"),
+    ("bad-toml-syntax", dict(toml=SURVEY_TOML + "\n[conditions\n"), "TOML"),
+    ("unknown-host", dict(toml=_toml('host = "test-wall"', 'host = "gable"')), "host"),
+    ("path-outside-folder", dict(toml=_toml('"thermograms/room-north.npy"', '"../room-north.npy"')), "inside the survey folder"),
+    ("pickled-object-array", dict(pixels=np.array([[{"a": 1}] * 16] * 16, dtype=object)), "pixel"),
+    ("band-reversed", dict(toml=_toml("accuracy_k = 1.0", "band_um = [14.0, 7.5]\naccuracy_k = 1.0")), "band_um"),
+    ("eleven-months", dict(toml=_toml("monthly_outdoor_c = [2.0, ", "monthly_outdoor_c = [")), "12"),
+    ("indoor-colder", dict(toml=_toml("indoor_air_c = 21.0", "indoor_air_c = -5.0")), "indoor"),
+    ("window-outside-wall", dict(outlines={"type": "FeatureCollection", "features": [
+        outlines_geojson()["features"][1]]}), "test-window"),
+    ("no-scale", dict(toml=_toml("[thermograms.known_length]\npixel_a = [0, 119.5]\npixel_b = [160, 119.5]\nlength_m = 4.0\n", "")), "reference_points"),
+]
+
+
+@pytest.mark.parametrize("case,mutation,expect", BROKEN, ids=[b[0] for b in BROKEN])
+def test_broken_survey_exit_2_nothing_written(tmp_path, case, mutation, expect):
+    root = tmp_path / "survey"
+    write_survey(root, mutation.get("toml", SURVEY_TOML), mutation.get("pixels"), mutation.get("outlines"))
+    if case == "pickled-object-array":  # np.save needs allow_pickle for object arrays
+        np.save(root / "thermograms" / "room-north.npy", mutation["pixels"], allow_pickle=True)
+    before = sorted(p.name for p in tmp_path.iterdir())
+    out = tmp_path / "out"
+    res = runner.invoke(app, ["assess", str(root), "--out", str(out), "--quiet"])
+    assert res.exit_code == 2, (case, res.output, res.exception)
+    msg = res.output.strip()
+    assert msg.startswith("envelope: error:"), msg
+    assert len(msg.splitlines()) == 1, msg          # one line, no traceback
+    assert expect.lower() in msg.lower(), (case, msg)
+    assert not out.exists()                          # nothing half-written
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
+
+
+def test_messages_name_file_and_field(tmp_path):
+    root = write_survey(tmp_path / "s", _toml("emissivity = 0.84", "emissivity = 1.2"))
+    with pytest.raises(SurveyError) as err:
+        load_survey(root)
+    assert err.value.file.endswith("survey.toml")
+    assert err.value.field == "elements[1].emissivity"
+
+
+def test_inputs_never_modified(survey_dir, tmp_path):
+    files = sorted(p for p in survey_dir.rglob("*") if p.is_file())
+    before = {p: p.read_bytes() for p in files}
+    res = runner.invoke(app, ["assess", str(survey_dir), "--out", str(tmp_path / "o"), "--quiet"])
+    assert res.exit_code == 0, res.output
+    assert sorted(p for p in survey_dir.rglob("*") if p.is_file()) == files
+    assert all(p.read_bytes() == b for p, b in before.items())
+
+
+def test_csv_and_tiff_pixels_read_like_npy(tmp_path):
+    import tifffile
+
+    img = readings()
+    np.savetxt(tmp_path / "a.csv", img, delimiter=",", fmt="%.5f")
+    tifffile.imwrite(tmp_path / "a.tif", img, compression="zlib")
+    np.testing.assert_allclose(load_pixels(tmp_path / "a.csv"), img, atol=1e-5)
+    np.testing.assert_array_equal(load_pixels(tmp_path / "a.tif"), img)
+    (tmp_path / "b.csv").write_text("1,2,x\n")
+    with pytest.raises(SurveyError, match="line 1"):
+        load_pixels(tmp_path / "b.csv")
+
+
+def test_output_folder_not_overwritten(survey_dir, tmp_path):
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "keep.txt").write_text("mine")
+    res = runner.invoke(app, ["assess", str(survey_dir), "--out", str(out), "--quiet"])
+    assert res.exit_code == 2 and "not empty" in res.output
+    assert (out / "keep.txt").read_text() == "mine"
+
+
+def test_geojson_not_json(tmp_path):
+    root = write_survey(tmp_path / "s")
+    (root / "outlines" / "room-north.geojson").write_text("{not json")
+    res = runner.invoke(app, ["inspect", str(root)])
+    assert res.exit_code == 2 and "room-north.geojson" in res.output
+
+
+def test_inspect_prints_what_it_found(survey_dir):
+    res = runner.invoke(app, ["inspect", str(survey_dir)])
+    assert res.exit_code == 0, res.output
+    assert "test-wall" in res.output and "room-north" in res.output
+    res = runner.invoke(app, ["inspect", str(survey_dir), "--json"])
+    info = json.loads(res.output)
+    assert info["thermograms"][0]["shape_px"] == [120, 160]
