@@ -276,12 +276,14 @@ def _disk(radius: int) -> np.ndarray:
 
 
 def _clean(binary, settings: DefectSettings):
-    out = binary
+    """Binary opening then closing, on a False-padded copy so the frame edge is not eroded."""
+    pad = max(settings.opening_px, settings.closing_px) + 1
+    out = np.pad(binary, pad)
     if settings.opening_px > 0:
         out = ndimage.binary_opening(out, structure=_disk(settings.opening_px))
     if settings.closing_px > 0:
-        out = ndimage.binary_closing(out, structure=_disk(settings.closing_px), border_value=0)
-    return out
+        out = ndimage.binary_closing(out, structure=_disk(settings.closing_px))
+    return out[pad:-pad, pad:-pad]
 
 
 def _bbox(mask):
