@@ -88,8 +88,8 @@ def table(headers, rows, numeric=()) -> Markup:
             f'<td class="n">{esc(c)}</td>' if i in numeric else f"<td>{esc(c)}</td>"
             for i, c in enumerate(row))
         body.append(f"<tr>{cells}</tr>")
-    return Markup(f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(body)}"
-                  "</tbody></table>")
+    return Markup(f'<div class="wide"><table><thead><tr>{head}</tr></thead>'
+                  f"<tbody>{''.join(body)}</tbody></table></div>")
 
 
 def status(word) -> Markup:
