@@ -146,6 +146,23 @@ def test_image_path_matches_quad_solution():
         assert out[r, c] == pytest.approx(expected, abs=1e-3)
 
 
+def test_image_table_path_with_nan_limit():
+    # Low emissivity, warm reflected scene and cold readings: part of the image has no
+    # solution (NaN), so the tabulated path is used; checked against quad root finding.
+    rng = np.random.default_rng(5)
+    img = rng.uniform(-40.0, 40.0, size=(400, 400)).astype(np.float32)
+    out = rad.object_temperature(img, 0.6, 30.0)
+    band = (7.5, 14.0)
+    l_refl = 0.4 * quad_radiance(303.15, band)
+    assert np.isnan(out).any() and np.isfinite(out).any()
+    for r, c in [(0, 0), (17, 250), (399, 1), (200, 200), (321, 45)]:
+        w = quad_radiance(float(img[r, c]) + 273.15, band) - l_refl
+        if w <= quad_radiance(150.0, band):  # no solution, or below the fitted range
+            continue
+        expected = quad_temperature(w / 0.6, band) - 273.15
+        assert out[r, c] == pytest.approx(expected, abs=1e-3)
+
+
 def test_impossible_radiance_is_nan():
     # A very cold reading in front of a warm reflected scene: the object term is negative.
     out = rad.object_temperature(np.array([-30.0, 15.0]), 0.6, 40.0)
