@@ -105,7 +105,7 @@ def u_interior(t_si_c, t_ai_c, t_ae_c, t_refl_c, emissivity, h_c):
     Examples
     --------
     >>> round(u_interior(18.0, 20.0, 0.0, 20.0, 0.9, 2.5), 3)
-    0.709
+    0.759
     """
     q = heat_flux_interior(t_si_c, t_ai_c, t_refl_c, emissivity, h_c)
     with np.errstate(divide="ignore", invalid="ignore"):
