@@ -359,8 +359,7 @@ def _object_by_polynomial(apparent, eps, tau, reflected_c, atm, band):
 
 def _object_by_table(apparent, eps, tau, reflected_c, atm, band):
     """Scalar settings: tabulate the correction on a uniform grid, interpolate linearly."""
-    lo = float(np.nanmin(apparent))
-    hi = float(np.nanmax(apparent))
+    lo, hi = float(np.nanmin(apparent)), float(np.nanmax(apparent))
     step = max((hi - lo) / 65000.0, 0.01)
     if not (math.isfinite(lo) and math.isfinite(hi)) or step > 0.05:
         return None
@@ -371,11 +370,8 @@ def _object_by_table(apparent, eps, tau, reflected_c, atm, band):
     slope = np.diff(table).astype(dtype)
     out = np.empty(apparent.shape, dtype=dtype)
     src, dst = apparent.reshape(-1), out.reshape(-1)
-    pos = np.empty(_CHUNK, dtype)
-    flo = np.empty(_CHUNK, dtype)
+    pos, flo, gv, gs = (np.empty(_CHUNK, dtype) for _ in range(4))
     idx = np.empty(_CHUNK, np.intp)
-    gv = np.empty(_CHUNK, dtype)
-    gs = np.empty(_CHUNK, dtype)
     inv_step, offset = dtype(1.0 / step), dtype(-lo / step)
     with np.errstate(invalid="ignore"):
         for start in range(0, src.size, _CHUNK):
@@ -521,7 +517,7 @@ def _tau_continuum(distance_m, air_c, rh, band_um):
 
 
 def _tau_none(distance_m, air_c, rh, band_um):
-    return np.ones(np.broadcast(np.asarray(distance_m), np.asarray(air_c), np.asarray(rh)).shape)
+    return np.ones(np.broadcast(distance_m, np.asarray(air_c), rh).shape)
 
 
 _TAU_MODELS = {"water-vapour-continuum": _tau_continuum, "none": _tau_none}
