@@ -74,7 +74,7 @@ class UInputs:
     equal probability and multiplies it by a rectangular factor 1 ± ``h_c_band`` (our choice:
     a ±20 % band is about the spread between ISO 6946 and natural-convection correlations at
     survey temperature differences). A float ``h_c_model`` is a fixed coefficient with the same
-    band. Exterior: ``wind_m_s`` (``u_wind``), sky temperature ``t_sky_c`` (``u_t_sky_k``;
+    band. Exterior: ``wind_m_s`` (``u_wind``; normal draws folded at 0 m/s), sky temperature ``t_sky_c`` (``u_t_sky_k``;
     None: the outdoor air), ground at the outdoor air, sky view factor ``f_sky``.
     """
 
