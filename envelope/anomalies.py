@@ -275,15 +275,29 @@ def _disk(radius: int) -> np.ndarray:
     return x * x + y * y <= r * r + r  # r=1: the full 3x3 square; larger r: a rounded disc
 
 
+def _dilate(a, r):
+    if r == 1:  # the full 3 x 3 square: separable, done as two 1-D passes
+        return ndimage.maximum_filter(a, size=3, mode="constant", cval=0)
+    return ndimage.binary_dilation(a, structure=_disk(r)).view(np.uint8)
+
+
+def _erode(a, r):
+    if r == 1:
+        return ndimage.minimum_filter(a, size=3, mode="constant", cval=0)
+    return ndimage.binary_erosion(a, structure=_disk(r)).view(np.uint8)
+
+
 def _clean(binary, settings: DefectSettings):
     """Binary opening then closing, on a False-padded copy so the frame edge is not eroded."""
+    if not binary.any():
+        return binary
     pad = max(settings.opening_px, settings.closing_px) + 1
-    out = np.pad(binary, pad)
+    out = np.pad(binary, pad).view(np.uint8)
     if settings.opening_px > 0:
-        out = ndimage.binary_opening(out, structure=_disk(settings.opening_px))
+        out = _dilate(_erode(out, settings.opening_px), settings.opening_px)
     if settings.closing_px > 0:
-        out = ndimage.binary_closing(out, structure=_disk(settings.closing_px))
-    return out[pad:-pad, pad:-pad]
+        out = _erode(_dilate(out, settings.closing_px), settings.closing_px)
+    return out[pad:-pad, pad:-pad].astype(bool)
 
 
 def _bbox(mask):
@@ -323,10 +337,15 @@ def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, ext
         raise ValueError(f"side must be one of ['interior', 'exterior'], got {side!r}")
     mask = np.asarray(mask, bool)
     sl = _bbox(mask)
-    level, sigma = reference_level(frsi, mask, reference_mask)
+    if sl is None:
+        return {"level": np.nan, "sigma": np.nan, "threshold": np.nan, "slices": None,
+                "kept": [], "labels": None, "reference": None}
+    level, sigma = reference_level(
+        np.asarray(frsi)[sl], mask[sl],
+        None if reference_mask is None else np.asarray(reference_mask, bool)[sl])
     thr = anomaly_threshold(sigma, settings)
     out = {"level": level, "sigma": sigma, "threshold": thr, "slices": sl, "kept": []}
-    if sl is None or not np.isfinite(level):
+    if not np.isfinite(level):
         out["labels"] = None
         out["reference"] = None
         return out

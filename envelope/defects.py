@@ -540,7 +540,8 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
         q_ref, q_sig = float(qz.mean()), float(qz.std())
         others = np.zeros(t.shape, dtype=bool)
         others[sl] = labels > 0
-        t_e_est = float(np.nanmedian((t - f * delta_t_k)[sl][el.mask[sl]]))
+        m_el = el.mask[sl]
+        t_e_est = float(np.nanmedian(t[sl][m_el] - f[sl][m_el] * delta_t_k))
         t_thr = t_e_est + (seg["level"] - seg["threshold"]) * delta_t_k
         u_rel = u_rel_std.get(el.name) if isinstance(u_rel_std, dict) else u_rel_std
         for r, ok in zip(described, is_defect, strict=True):

@@ -291,3 +291,12 @@ def test_no_pair_below_five_pascal_gives_note():
     assert not any(d.defect_class == "air leakage" for d in found)
     assert any("under the 5 Pa" in n for d in found for n in d.notes)
     assert math.isfinite(found[0].extra_w)
+
+
+def test_defects_figure_writes_png(survey_defects, tmp_path):
+    from envelope.plots.defects import defects_figure
+
+    (t, _, _), _, regions = scene(seed=2)
+    out = defects_figure(t, survey_defects, tmp_path / "defects.png", regions=regions,
+                         title="IR-01 north wall")
+    assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948)
