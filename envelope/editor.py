@@ -29,17 +29,17 @@ from pathlib import Path
 import numpy as np
 
 SHORTCUTS = (
-    ("left click", "add vertex / pick and drag vertex"),
+    ("left click", "add / pick + drag vertex"),
     ("right click", "delete nearest vertex"),
     ("enter, c", "close outline"),
     ("n", "new outline"),
-    ("e", "edit element name"),
-    ("r", "toggle role element/reference"),
+    ("e", "element name (type, enter)"),
+    ("r", "role: element / reference"),
     ("p", "next outline"),
-    ("d, delete", "delete selected vertex"),
+    ("d, delete", "delete picked vertex"),
     ("u", "undo"),
-    ("x", "toggle snapping"),
-    ("s", "save (twice to overwrite)"),
+    ("x", "snapping on / off"),
+    ("s", "save (twice: overwrite)"),
 )
 """Key bindings shown on the editor figure."""
 ROUND_DECIMALS = 2
@@ -444,8 +444,8 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
         editor.from_geojson(json.loads(path.read_text(encoding="utf-8")))
     finite = img[np.isfinite(img)]
     lo, hi = (np.percentile(finite, [1, 99]) if finite.size else (0.0, 1.0))
-    fig = plt.figure(figsize=(10.0, 6.5))
-    ax = fig.add_axes((0.05, 0.12, 0.62, 0.8))
+    fig = plt.figure(figsize=(11.0, 6.5))
+    ax = fig.add_axes((0.07, 0.12, 0.58, 0.8))
     im = ax.imshow(img, cmap="inferno", vmin=lo, vmax=hi if hi > lo else lo + 1,
                    interpolation="nearest")
     fig.colorbar(im, ax=ax, fraction=0.046, pad=0.03).set_label("Surface temperature [°C]")
@@ -456,7 +456,7 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
     text_ax = fig.add_axes((0.12, 0.02, 0.45, 0.05))
     keys = "\n".join(f"{k:<12} {v}" for k, v in SHORTCUTS)
     names = ", ".join(element_names)
-    fig.text(0.74, 0.92, keys + (f"\n\nelements:\n{names}" if names else ""),
+    fig.text(0.73, 0.92, keys + (f"\n\nelements:\n{names}" if names else ""),
              va="top", family="monospace", fontsize=8)
     status = fig.text(0.05, 0.95, "", fontsize=9)
     artists: list = []
@@ -475,8 +475,9 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
             (line,) = ax.plot(v[:, 0], v[:, 1], ls, color=colour, lw=1.4, marker="o", ms=3)
             artists.append(line)
             if poly["element"] and len(v):
-                artists.append(ax.text(v[0, 0], v[0, 1], poly["element"], color=colour,
-                                       fontsize=8, va="bottom"))
+                cx, cy = v.mean(axis=0)
+                artists.append(ax.text(cx, cy, f"{poly['element']} ({poly['role']})",
+                                       color=colour, fontsize=8, ha="center", va="center"))
         if editor.selected is not None:
             i, j = editor.selected
             x, y = editor.polygons[i]["vertices"][j]

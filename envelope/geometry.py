@@ -29,6 +29,7 @@ from envelope.outlines import (  # noqa: F401  (re-exported)
     Outline,
     outlines_by_element,
     parse_outlines,
+    rasterise,
     read_outlines,
 )
 
@@ -286,9 +287,14 @@ def pixel_area_map(h: Homography, shape) -> np.ndarray:
 
     .. math:: \\det J = \\frac{\\det H}{w^3},
 
-    which follows from :math:`J = (M - X' h_3^T)/w`, with :math:`M` the upper-left 2x2 block
-    plus the translation column folded in, by the matrix determinant lemma; it is invariant
-    to the scale of :math:`H`. It is the first-order area of a pixel; the exact area of any
+    derived here: write :math:`H = [[A, b], [g^T, h_{22}]]` with :math:`A` 2x2, so that
+    :math:`w = g^T p + h_{22}` and :math:`X' = (A p + b)/w`. Differentiating,
+    :math:`J = (A - X' g^T)/w`. The matrix determinant lemma gives
+    det(A - X' g^T) = det(A) (1 - g^T A^-1 X') = det(A) (h22 - g^T A^-1 b) / w, and the
+    Schur complement gives det(H) = det(A) (h22 - g^T A^-1 b); with the factor w^-2 of
+    the 2x2 determinant, det J = det(H) / w^3. It is invariant to the scale of H and is
+    checked against finite differences in the
+    tests. It is the first-order area of a pixel; the exact area of any
     polygon is computed by mapping its vertices (`element_regions`).
     """
     h_px, w_px = (int(v) for v in shape[:2])
@@ -416,66 +422,6 @@ def _jacobian(m, xy) -> np.ndarray:
     u, v, w = m @ np.array([xy[0], xy[1], 1.0])
     return np.array([[m[0, 0] * w - u * m[2, 0], m[0, 1] * w - u * m[2, 1]],
                      [m[1, 0] * w - v * m[2, 0], m[1, 1] * w - v * m[2, 1]]]) / w**2
-
-
-def rasterise(polygon, shape_px) -> np.ndarray:
-    """Boolean mask of the pixels whose centres lie inside `polygon`.
-
-    Parameters
-    ----------
-    polygon : shapely.Polygon or shapely.MultiPolygon
-        In pixel coordinates.
-    shape_px : tuple of int
-        Image shape ``(H, W)``.
-
-    Returns
-    -------
-    ndarray of bool, shape (H, W)
-        True where the centre ``(col + 0.5, row + 0.5)`` is strictly inside.
-    """
-    h_px, w_px = (int(v) for v in shape_px[:2])
-    mask = np.zeros((h_px, w_px), dtype=bool)
-    if polygon is None or polygon.is_empty:
-        return mask
-    xmin, ymin, xmax, ymax = polygon.bounds
-    c0 = max(0, int(np.floor(xmin - 0.5)))
-    c1 = min(w_px, int(np.ceil(xmax - 0.5)) + 1)
-    r0 = max(0, int(np.floor(ymin - 0.5)))
-    r1 = min(h_px, int(np.ceil(ymax - 0.5)) + 1)
-    if c1 <= c0 or r1 <= r0:
-        return mask
-    shapely.prepare(polygon)
-    t = _TILE_PX
-    n_tr, n_tc = -(-(r1 - r0) // t), -(-(c1 - c0) // t)
-    if n_tr * n_tc < 16:
-        gx, gy = np.meshgrid(np.arange(c0, c1) + 0.5, np.arange(r0, r1) + 0.5)
-        mask[r0:r1, c0:c1] = shapely.contains_xy(polygon, gx, gy)
-        return mask
-    # Tiles of t x t pixel centres: whole tiles inside or outside are settled by one test
-    # on the box spanning their centres; only the tiles the boundary crosses are tested
-    # centre by centre.
-    tr, tc = np.meshgrid(r0 + t * np.arange(n_tr), c0 + t * np.arange(n_tc), indexing="ij")
-    tr, tc = tr.ravel(), tc.ravel()
-    boxes = shapely.box(tc + 0.5, tr + 0.5, np.minimum(tc + t, c1) - 0.5,
-                        np.minimum(tr + t, r1) - 0.5)
-    inside = shapely.contains_properly(polygon, boxes)
-    mixed = ~inside & shapely.intersects(polygon, boxes)
-    sub = mask[r0:r0 + n_tr * t, c0:c0 + n_tc * t]
-    view = np.zeros((n_tr * t, n_tc * t), dtype=bool)
-    blocks = view.reshape(n_tr, t, n_tc, t)
-    blocks[inside.reshape(n_tr, n_tc)[:, None, :, None].repeat(t, 1).repeat(t, 3)] = True
-    k = np.flatnonzero(mixed)
-    if k.size:
-        off = np.arange(t)
-        rr = (tr[k][:, None, None] + off[None, :, None]) + np.zeros((1, 1, t), dtype=int)
-        cc = (tc[k][:, None, None] + off[None, None, :]) + np.zeros((1, t, 1), dtype=int)
-        hit = shapely.contains_xy(polygon, cc + 0.5, rr + 0.5)
-        view[rr - r0, cc - c0] = hit
-    sub[...] = view[:sub.shape[0], :sub.shape[1]]
-    return mask
-
-
-_TILE_PX = 16
 
 
 @dataclass(frozen=True, eq=False)

@@ -14,7 +14,8 @@ Geometry is a ``Polygon`` or a ``MultiPolygon`` (several parts of one element). 
 has at most one feature per role in one file; a ``MultiPolygon`` is how several parts are
 given. Rings may be given closed (first position repeated, as RFC 7946 asks) or open.
 
-Reading uses the standard library ``json`` only; validation uses shapely.
+Reading uses the standard library ``json`` only; validation uses shapely. `rasterise`
+turns an outline into a pixel mask.
 
 References
 ----------
@@ -29,6 +30,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
 
+import numpy as np
 import shapely
 from shapely.geometry import MultiPolygon, Polygon, box
 
@@ -291,3 +293,63 @@ def outlines_by_element(outlines: Iterable[Outline]) -> dict[str, dict[str, Outl
     for o in outlines:
         grouped.setdefault(o.element, {})[o.role] = o
     return grouped
+
+
+def rasterise(polygon, shape_px) -> np.ndarray:
+    """Boolean mask of the pixels whose centres lie inside `polygon`.
+
+    Parameters
+    ----------
+    polygon : shapely.Polygon or shapely.MultiPolygon
+        In pixel coordinates.
+    shape_px : tuple of int
+        Image shape ``(H, W)``.
+
+    Returns
+    -------
+    ndarray of bool, shape (H, W)
+        True where the centre ``(col + 0.5, row + 0.5)`` is strictly inside.
+    """
+    h_px, w_px = (int(v) for v in shape_px[:2])
+    mask = np.zeros((h_px, w_px), dtype=bool)
+    if polygon is None or polygon.is_empty:
+        return mask
+    xmin, ymin, xmax, ymax = polygon.bounds
+    c0 = max(0, int(np.floor(xmin - 0.5)))
+    c1 = min(w_px, int(np.ceil(xmax - 0.5)) + 1)
+    r0 = max(0, int(np.floor(ymin - 0.5)))
+    r1 = min(h_px, int(np.ceil(ymax - 0.5)) + 1)
+    if c1 <= c0 or r1 <= r0:
+        return mask
+    shapely.prepare(polygon)
+    t = _TILE_PX
+    n_tr, n_tc = -(-(r1 - r0) // t), -(-(c1 - c0) // t)
+    if n_tr * n_tc < 16:
+        gx, gy = np.meshgrid(np.arange(c0, c1) + 0.5, np.arange(r0, r1) + 0.5)
+        mask[r0:r1, c0:c1] = shapely.contains_xy(polygon, gx, gy)
+        return mask
+    # Tiles of t x t pixel centres: whole tiles inside or outside are settled by one test
+    # on the box spanning their centres; only the tiles the boundary crosses are tested
+    # centre by centre.
+    tr, tc = np.meshgrid(r0 + t * np.arange(n_tr), c0 + t * np.arange(n_tc), indexing="ij")
+    tr, tc = tr.ravel(), tc.ravel()
+    boxes = shapely.box(tc + 0.5, tr + 0.5, np.minimum(tc + t, c1) - 0.5,
+                        np.minimum(tr + t, r1) - 0.5)
+    inside = shapely.contains_properly(polygon, boxes)
+    mixed = ~inside & shapely.intersects(polygon, boxes)
+    sub = mask[r0:r0 + n_tr * t, c0:c0 + n_tc * t]
+    view = np.zeros((n_tr * t, n_tc * t), dtype=bool)
+    blocks = view.reshape(n_tr, t, n_tc, t)
+    blocks[inside.reshape(n_tr, n_tc)[:, None, :, None].repeat(t, 1).repeat(t, 3)] = True
+    k = np.flatnonzero(mixed)
+    if k.size:
+        off = np.arange(t)
+        rr = (tr[k][:, None, None] + off[None, :, None]) + np.zeros((1, 1, t), dtype=int)
+        cc = (tc[k][:, None, None] + off[None, None, :]) + np.zeros((1, t, 1), dtype=int)
+        hit = shapely.contains_xy(polygon, cc + 0.5, rr + 0.5)
+        view[rr - r0, cc - c0] = hit
+    sub[...] = view[:sub.shape[0], :sub.shape[1]]
+    return mask
+
+
+_TILE_PX = 16

@@ -13,7 +13,7 @@ from envelope.plots.common import TEMPERATURE_CMAP, image_axes, save
 
 ELEMENT_COLOUR = "white"
 REFERENCE_COLOUR = "cyan"
-OPENING_COLOUR = "lightgrey"
+OPENING_COLOUR = "white"
 DEFECT_COLOUR = "lime"
 
 
@@ -79,7 +79,7 @@ def overlay_figure(image_c, regions_or_outlines, path, title=None, defects=None)
         for name, reg in regions_or_outlines.items():
             ls = ":" if reg.kind in ("window", "door") else "-"
             colour = OPENING_COLOUR if ls == ":" else ELEMENT_COLOUR
-            _draw(ax, reg.polygon_net, colour, ls)
+            _draw(ax, reg.polygon_net, colour, ls, lw=1.8 if ls == ":" else 1.3)
             if reg.reference_polygon is not None:
                 _draw(ax, reg.reference_polygon, REFERENCE_COLOUR, "--")
             _label(ax, reg.polygon_net, name, colour)
