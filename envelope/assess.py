@@ -9,7 +9,9 @@ A thermogram that fails with a user error is listed in ``failures``; the others 
 
 from __future__ import annotations
 
+import contextlib
 import math
+import time
 import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -93,6 +95,24 @@ class Assessment:
 
 
 Progress = Callable[[str], None]
+
+
+class StageClock:
+    """Wall time per pipeline stage [s] (for the benchmarks; costs nothing when unused)."""
+
+    def __init__(self):
+        self.seconds: dict[str, float] = {}
+
+    @contextlib.contextmanager
+    def stage(self, name: str):
+        t0 = time.perf_counter()
+        try:
+            yield
+        finally:
+            self.seconds[name] = self.seconds.get(name, 0.0) + time.perf_counter() - t0
+
+
+_NO_CLOCK = StageClock()
 
 
 # --------------------------------------------------------------------------- survey level
@@ -180,20 +200,26 @@ def _correct(survey: Survey, tg: Thermogram, readings: np.ndarray, eps_map: np.n
     return np.asarray(obj, dtype=np.float32), np.asarray(apparent, dtype=np.float32), tau, atm
 
 
-def correct_thermogram(survey: Survey, tg: Thermogram):
-    """Read one thermogram and return ``(object_c, regions, h, outlines, eps_map, tau, apparent)``."""
-    label = str(tg.file.relative_to(survey.root))
-    readings = load_pixels(tg.file, label)
-    shape = readings.shape
-    olabel = str(tg.outlines.relative_to(survey.root))
-    outlines = geometry.read_outlines(tg.outlines, shape, tuple(survey.elements))
-    h = _homography(tg, shape, survey.file.name + f": thermograms[{tg.id}]")
-    el_spec = {n: (e.kind, e.host) for n, e in survey.elements.items()}
-    regions = geometry.element_regions(outlines, el_spec, shape, h, source=olabel)
-    eps_map = np.full(shape, tg.emissivity_default or DEFAULT_EMISSIVITY, dtype=np.float32)
-    for name, reg in regions.items():
-        eps_map[reg.mask] = emissivity_of(survey, tg, name)[0]
-    obj, apparent, tau, atm = _correct(survey, tg, readings, eps_map)
+def correct_thermogram(survey: Survey, tg: Thermogram, clock: StageClock = _NO_CLOCK):
+    """Read one thermogram, build its geometry and correct it.
+
+    Returns ``(object_c, regions, h, outlines, eps_map, tau, apparent_c, atmosphere_c)``.
+    """
+    with clock.stage("load"):
+        label = str(tg.file.relative_to(survey.root))
+        readings = load_pixels(tg.file, label)
+        shape = readings.shape
+        olabel = str(tg.outlines.relative_to(survey.root))
+        outlines = geometry.read_outlines(tg.outlines, shape, tuple(survey.elements))
+    with clock.stage("geometry"):
+        h = _homography(tg, shape, survey.file.name + f": thermograms[{tg.id}]")
+        el_spec = {n: (e.kind, e.host) for n, e in survey.elements.items()}
+        regions = geometry.element_regions(outlines, el_spec, shape, h, source=olabel)
+        eps_map = np.full(shape, tg.emissivity_default or DEFAULT_EMISSIVITY, dtype=np.float32)
+        for name, reg in regions.items():
+            eps_map[reg.mask] = emissivity_of(survey, tg, name)[0]
+    with clock.stage("correct"):
+        obj, apparent, tau, atm = _correct(survey, tg, readings, eps_map)
     return obj, regions, h, outlines, eps_map, tau, apparent, atm
 
 
@@ -342,19 +368,21 @@ def _design_rh(survey: Survey, limit, month_index: int) -> float:
     return survey.conditions.indoor_rh if survey.conditions.indoor_rh is not None else 0.5
 
 
-def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=None) -> ThermogramResult:
+def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=None,
+                      clock: StageClock = _NO_CLOCK) -> ThermogramResult:
     """Everything one thermogram gives: corrected image, element U, fRsi, defects."""
     from . import defects as defects_mod
 
     c = survey.conditions
-    obj, regions, h, outlines, eps_map, tau, apparent, atm = correct_thermogram(survey, tg)
+    obj, regions, h, outlines, eps_map, tau, apparent, atm = correct_thermogram(survey, tg, clock)
     out = ThermogramResult(tg, "assessed", object_c=obj, regions=regions, outlines=outlines,
                            homography=h, transmittance=tau)
     checks = [validity.check_view_angle(tg.view_angle_deg)]
     if tg.hours_since_sun is not None:
         checks.append(validity.check_sun(tg.hours_since_sun, tg.side))
     out.checks = checks
-    area_map = geometry.pixel_area_map(h, obj.shape)
+    with clock.stage("geometry"):
+        area_map = geometry.pixel_area_map(h, obj.shape)
     dt = c.indoor_air_c - c.outdoor_air_c
     if dt <= 0:
         raise SurveyError("indoor air is not warmer than outdoor air; no heat flows outwards",
@@ -367,12 +395,14 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
     q_map = np.full(obj.shape, np.nan)
     for name, reg in regions.items():
         eps = emissivity_of(survey, tg, name)[0]
-        res, q = assess_element(survey, tg, reg, obj, apparent, eps, tau, atm, limits,
-                                area_map, checks)
-        q_map = np.where(reg.mask, q, q_map)
-        if frsi is not None:
-            vals = frsi[reg.mask & np.isfinite(frsi)]
-            frsi_verdict(res, vals, survey, limits)
+        with clock.stage("u_and_uncertainty"):
+            res, q = assess_element(survey, tg, reg, obj, apparent, eps, tau, atm, limits,
+                                    area_map, checks)
+            q_map = np.where(reg.mask, q, q_map)
+        with clock.stage("condensation"):
+            if frsi is not None:
+                vals = frsi[reg.mask & np.isfinite(frsi)]
+                frsi_verdict(res, vals, survey, limits)
         out.elements.append(res)
     # defects (interior: cold anomalies of fRsi; exterior: warm anomalies)
     f_map = frsi if frsi is not None else np.asarray(
@@ -382,9 +412,10 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
                                           min_area_m2=survey.analysis.defect_min_area_m2)
     lim = (limits[0].value if limits[0] is not None else None,
            limits[1].value if limits[1] is not None else None)
-    out.defects = defects_mod.find_defects(
-        obj, f_map, q_map, area_map, regions, tg.side, dt, _hdd(survey),
-        limits=lim, settings=settings, pair=pair, u_rel_std=u_rel, thermogram_id=tg.id)
+    with clock.stage("defects"):
+        out.defects = defects_mod.find_defects(
+            obj, f_map, q_map, area_map, regions, tg.side, dt, _hdd(survey),
+            limits=lim, settings=settings, pair=pair, u_rel_std=u_rel, thermogram_id=tg.id)
     for res in out.elements:
         res.coverage_share = _coverage(res, regions[res.name], out.defects, area_map)
     return out
@@ -412,7 +443,7 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
     rows = log[log["frame"].notna() & (log["frame"].astype(str).str.strip() != "")]
     if len(rows) < 3:
         raise SurveyError("expected at least 3 rows with a frame", label, "frame")
-    base_obj, regions, *_ = correct_thermogram(survey, tg)
+    base_obj, regions, _, outlines, *_ = correct_thermogram(survey, tg)
     if sr.element not in regions:
         raise SurveyError(f"element '{sr.element}' has no outline in thermogram '{tg.id}'",
                           survey.file.name, f"series[{sr.id}].element")
@@ -423,31 +454,32 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
     ex = tg.export
     refl = rows["reflected_c"].to_numpy(float) if "reflected_c" in rows else np.full(len(rows), tg.reflected_c)
     tau = tg.transmittance if tg.transmittance is not None else 1.0
-    masks: dict = {}
 
     def mask_for(shape):
-        if shape not in masks:
-            if shape == base_obj.shape:
-                masks[shape] = _zone(reg)
-            else:  # same view at another resolution: scale the outline
-                import shapely
+        """The element's zone in frames of `shape`: the same view, perhaps at another
+        resolution (outline scaled by the ratio of the frame sizes)."""
+        if shape == base_obj.shape:
+            return _zone(reg)
+        import shapely
 
-                sy, sx = shape[0] / base_obj.shape[0], shape[1] / base_obj.shape[1]
-                poly = reg.polygon_net
-                if reg.reference_mask is not None:
-                    ref = [o for o in geometry_outlines(survey, tg) if o.element == sr.element and o.role == "reference"]
-                    if ref:
-                        poly = ref[0].polygon.intersection(poly)
-                poly = shapely.transform(poly, lambda xy: xy * np.array([sx, sy]))
-                masks[shape] = geometry.rasterise(poly, shape)
-        return masks[shape]
+        poly = reg.polygon_net
+        ref = [o.polygon for o in outlines if o.element == sr.element and o.role == "reference"]
+        if ref:
+            poly = ref[0].intersection(poly)
+        scale = np.array([shape[1] / base_obj.shape[1], shape[0] / base_obj.shape[0]])
+        return geometry.rasterise(shapely.transform(poly, lambda xy: xy * scale), shape)
 
     frame_shape = {}
+    paths = []
+    for i, rel in enumerate(rows["frame"].astype(str)):
+        path = (sr.air_log.parent / rel.strip()).resolve()
+        if not path.is_relative_to(survey.root.resolve()):
+            raise SurveyError(f"frame '{rel}' lies outside the survey folder", label, f"frame (row {i + 2})")
+        paths.append(path)
 
     def frames():
-        for i, rel in enumerate(rows["frame"].astype(str)):
-            path = sr.air_log.parent / rel.strip()
-            flabel = str(path.relative_to(survey.root)) if path.is_relative_to(survey.root) else rel
+        for i, path in enumerate(paths):
+            flabel = str(path.relative_to(survey.root.resolve()))
             readings = load_pixels(path, flabel)
             if not frame_shape:
                 frame_shape["shape"] = readings.shape
@@ -460,7 +492,7 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
                 progress("series")
             yield np.asarray(radiometry.object_temperature(app, eps, refl[i], tau, None, band_um=band))
 
-    first = load_pixels(sr.air_log.parent / str(rows["frame"].iloc[0]).strip(), label)
+    first = load_pixels(paths[0], str(paths[0].relative_to(survey.root.resolve())))
     mask = mask_for(first.shape)
     model = survey.analysis.interior_convection
     res = transmittance.series_u_from_frames(
@@ -471,11 +503,6 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
             "u_running_w_m2k": [float(x) for x in res.u_running_w_m2k],
             "times_h": [float(x) for x in res.times_h],
             "checks": list(res.checks)}
-
-
-def geometry_outlines(survey: Survey, tg: Thermogram):
-    shape = load_pixels(tg.file).shape
-    return geometry.read_outlines(tg.outlines, shape, tuple(survey.elements))
 
 
 # --------------------------------------------------------------------------- whole survey
@@ -510,7 +537,8 @@ def _measures(survey: Survey, defects: list) -> list:
     return out
 
 
-def assess_survey(survey: Survey, progress: Progress | None = None) -> Assessment:
+def assess_survey(survey: Survey, progress: Progress | None = None,
+                  clock: StageClock = _NO_CLOCK) -> Assessment:
     """Assess every thermogram, series and the energy case of a loaded survey."""
     from . import defects as defects_mod
 
@@ -530,7 +558,7 @@ def assess_survey(survey: Survey, progress: Progress | None = None) -> Assessmen
     for tg in order:
         try:
             if tg.id in depressurised:
-                obj, *_ = correct_thermogram(survey, tg)
+                obj, *_ = correct_thermogram(survey, tg, clock)
                 pair_images[tg.id] = obj
                 tr = ThermogramResult(tg, "paired", object_c=obj,
                                       paired_with=depressurised[tg.id].baseline)
@@ -539,7 +567,7 @@ def assess_survey(survey: Survey, progress: Progress | None = None) -> Assessmen
                 if tg.id in baselines and baselines[tg.id].depressurised in pair_images:
                     p = baselines[tg.id]
                     pair = (pair_images[p.depressurised], p.pressure_difference_pa)
-                tr = assess_thermogram(survey, tg, limits, checks, pair=pair)
+                tr = assess_thermogram(survey, tg, limits, checks, pair=pair, clock=clock)
                 if tg.id in baselines:
                     tr.paired_with = baselines[tg.id].depressurised
         except (SurveyError, ValueError, FloatingPointError) as exc:
@@ -558,13 +586,15 @@ def assess_survey(survey: Survey, progress: Progress | None = None) -> Assessmen
     series = []
     for sr in survey.series:
         try:
-            series.append(assess_series(survey, sr))
+            with clock.stage("series"):
+                series.append(assess_series(survey, sr))
         except SurveyError as exc:
             failures.append({"thermogram": f"series {sr.id}", "file": str(sr.air_log.relative_to(survey.root)),
                              "error": str(exc)})
         tick("series")
 
-    heat, measures, package = energy_case(survey, elements, all_defects, checks, notes)
+    with clock.stage("energy"):
+        heat, measures, package = energy_case(survey, elements, all_defects, checks, notes)
     return Assessment(survey, checks, mould, cond, tresults, elements, all_defects, heat,
                       measures, package, series, failures, notes)
 

@@ -7,7 +7,7 @@ from __future__ import annotations
 import json
 import sys
 import warnings
-from enum import Enum
+from enum import StrEnum
 from pathlib import Path
 from typing import Annotated
 
@@ -52,6 +52,13 @@ def _warn_to_stderr(quiet: bool):
             typer.echo(f"envelope: warning: {message}", err=True)
     warnings.showwarning = show
     warnings.simplefilter("default", EnvelopeWarning)
+
+
+class Convection(StrEnum):
+    """Interior convective coefficient model (see envelope.films.convective_coefficient)."""
+
+    iso6946 = "iso6946"
+    churchill_chu = "churchill_chu"
 
 
 class _Progress:
@@ -185,7 +192,8 @@ def assess(
     replace: ReplaceOpt = False,
     quiet: QuietOpt = False,
     json_out: Annotated[bool, typer.Option("--json", help="Print a summary as JSON on stdout (for scripts).")] = False,
-    draws: Annotated[int | None, typer.Option("--draws", min=100, help="Monte Carlo draws per element (overrides [analysis] monte_carlo_draws).")] = None,
+    draws: Annotated[int | None, typer.Option("--draws", min=100, help="Monte Carlo draws per element (overrides analysis.monte_carlo_draws of the survey).")] = None,
+    convection: Annotated[Convection | None, typer.Option("--convection", help="Interior h_c model [W/(m²·K)]: ISO 6946 conventional values or Churchill–Chu natural convection (overrides analysis.interior_convection of the survey).")] = None,
 ):
     """Assess a survey: corrected temperatures, U-values with 95 % intervals, fRsi and
     mould/condensation risk, ranked defects, heat loss, retrofit case and the reports."""
@@ -199,6 +207,9 @@ def assess(
         s = _load(survey)
         if draws is not None:
             s = dataclasses.replace(s, analysis=dataclasses.replace(s.analysis, monte_carlo_draws=draws))
+        if convection is not None:
+            s = dataclasses.replace(s, analysis=dataclasses.replace(
+                s.analysis, interior_convection=convection.value))
         steps = len(s.thermograms) * 2 + len(s.series) + 2
         with _Progress(steps, quiet or json_out) as progress, staged_folder(out, replace) as tmp:
             a = assess_survey(s, progress)

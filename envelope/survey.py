@@ -30,6 +30,10 @@ SIDES = ("interior", "exterior")
 HEAT_FLOW = ("horizontal", "upward", "downward")
 MEASURE_KINDS = ("add_layer", "replace_glazing", "seal_leak", "fix_bridge")
 HUMIDITY_MODELS = ("measured", "humidity_class", "moisture_production")
+INTERIOR_CONVECTION = ("iso6946", "churchill_chu")
+EXTERIOR_CONVECTION = ("iso6946_wind", "mcadams", "watmuff")
+SKY_MODELS = ("berdahl_martin", "swinbank")
+FRSI_CRITERIA = ("iso13788", "bre-ip1-06-dwellings", "din-4108-2")
 
 MAX_PIXELS = 4096 * 4096
 """Largest thermogram accepted [px]; bigger files are refused before they are read."""
@@ -479,8 +483,9 @@ def load_survey(folder: str | Path) -> Survey:
     )
     a = top.sub("analysis", tuple(Analysis.__dataclass_fields__), {})
     analysis = Analysis(
-        a.str("interior_convection", "iso6946"), a.str("exterior_convection", "iso6946_wind"),
-        a.str("sky_model", "berdahl_martin"), a.int("monte_carlo_draws", 20000, 100, 1_000_000),
+        a.str("interior_convection", "iso6946", INTERIOR_CONVECTION),
+        a.str("exterior_convection", "iso6946_wind", EXTERIOR_CONVECTION),
+        a.str("sky_model", "berdahl_martin", SKY_MODELS), a.int("monte_carlo_draws", 20000, 100, 1_000_000),
         a.int("seed", 20261201, 0), a.num("defect_threshold", 0.03, 0.0, 0.5, "-"),
         a.num("defect_min_area_m2", 0.01, 0.0, 100.0, "m2"),
         a.num("verdict_tolerance_w_m2k", 0.0, 0.0, 5.0, "W/m2K"),
@@ -548,7 +553,8 @@ def _climate(c: _Table) -> Climate:
         _fractions(c, "monthly_outdoor_rh"), c.nums("monthly_indoor_c", None, 12, -10, 40, "°C"),
         hum, c.int("humidity_class", 3, 1, 5), c.fraction("indoor_rh", None),
         c.num("moisture_kg_h", None, 0, 10, "kg/h"), c.num("air_changes_per_h", None, 0, 50, "1/h", lo_open=True),
-        c.num("volume_m3", None, 0, 1e5, "m3", lo_open=True), c.str("frsi_criterion", "iso13788"),
+        c.num("volume_m3", None, 0, 1e5, "m3", lo_open=True),
+        c.str("frsi_criterion", "iso13788", FRSI_CRITERIA),
     )
 
 
