@@ -228,6 +228,15 @@ def test_rectify_identity_grid_and_nan():
     assert_allclose(r.image[ok], img[ok], atol=1e-9)  # grid centres = pixel centres
     assert np.isnan(r.image[30, 40]) and r.valid.sum() == ok.sum()
     assert r.extent_m == pytest.approx((0.0, 16.0, 0.0, 12.0))
+    # half a cell off: each cell centre sits between four pixel centres, so the NaN pixel
+    # spoils exactly the 2 x 2 cells whose bilinear stencil holds it
+    r2 = rectify(img, h, cm_per_px=10.0, bounds_m=(0.05, 0.05, 15.05, 11.05))
+    assert r2.image.shape == (110, 150)
+    assert sorted(zip(*np.nonzero(~r2.valid), strict=True)) == [(29, 39), (29, 40), (30, 39),
+                                                                 (30, 40)]
+    ok2 = r2.valid
+    want = 0.25 * (img[:-1, :-1] + img[1:, :-1] + img[:-1, 1:] + img[1:, 1:])[:110, :150]
+    assert_allclose(r2.image[ok2], want[ok2], atol=1e-9)  # bilinear = mean of the four
 
 
 def test_rectify_oblique_linear_field():
