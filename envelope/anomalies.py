@@ -87,6 +87,11 @@ class DefectSettings:
         Fixed part of the anomaly threshold on the temperature factor [-]. 0.03 (about
         0.6 K at a 20 K indoor–outdoor difference) is common practice for "clearly colder
         than the undisturbed wall".
+    delta_f_exterior : float
+        The same on exterior views [-]. The exterior surface departs from the outdoor air
+        by only ``U ΔT R_se`` (R_se = 0.04 against R_si = 0.13 m2K/W, ISO 6946:2017
+        Table 7), so the fixed part is scaled by about R_se / R_si: 0.03 × 0.04 / 0.13
+        ≈ 0.01.
     k_sigma : float
         Multiple of the robust spread (1.4826 MAD) of the reference zone added to
         ``delta_f``, so that camera noise and texture do not trigger anomalies.
@@ -115,6 +120,7 @@ class DefectSettings:
     """
 
     delta_f: float = 0.03
+    delta_f_exterior: float = 0.01
     k_sigma: float = 3.0
     min_area_m2: float = 0.01
     opening_px: int = 1
@@ -128,7 +134,7 @@ class DefectSettings:
     report_warm: bool = True
 
     def __post_init__(self):
-        for name in ("delta_f", "k_sigma", "min_area_m2", "junction_m", "band_m"):
+        for name in ("delta_f", "delta_f_exterior", "k_sigma", "min_area_m2", "junction_m", "band_m"):
             if getattr(self, name) < 0:
                 raise SurveyError(f"must be >= 0, got {getattr(self, name)}", field=name)
         if self.min_repeats < 2:
@@ -256,17 +262,18 @@ def reference_level(frsi, mask, reference_mask=None) -> tuple[float, float]:
     return level, sigma
 
 
-def anomaly_threshold(sigma: float, settings: DefectSettings) -> float:
+def anomaly_threshold(sigma: float, settings: DefectSettings, side: str = "interior") -> float:
     """Distance from the reference level beyond which a pixel is anomalous [-].
 
     Notes
     -----
-    ``threshold = delta_f + k_sigma * sigma`` with ``sigma`` = 1.4826 MAD of the reference
+    ``threshold = delta_f + k_sigma * sigma`` (``delta_f_exterior`` on exterior views) with ``sigma`` = 1.4826 MAD of the reference
     zone. The fixed part sets the smallest defect worth reporting; the noise part keeps a
     noisy or textured surface from being reported as defective.
     """
     s = 0.0 if not np.isfinite(sigma) else sigma
-    return settings.delta_f + settings.k_sigma * s
+    fixed = settings.delta_f if side == "interior" else settings.delta_f_exterior
+    return fixed + settings.k_sigma * s
 
 
 def _disk(radius: int) -> np.ndarray:
@@ -343,7 +350,7 @@ def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, ext
     level, sigma = reference_level(
         np.asarray(frsi)[sl], mask[sl],
         None if reference_mask is None else np.asarray(reference_mask, bool)[sl])
-    thr = anomaly_threshold(sigma, settings)
+    thr = anomaly_threshold(sigma, settings, side)
     out = {"level": level, "sigma": sigma, "threshold": thr, "slices": sl, "kept": []}
     if not np.isfinite(level):
         out["labels"] = None
@@ -389,7 +396,12 @@ def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, ext
         out["kept"].extend((n + 1 + i, tag) for i in range(keep.size))
         n += keep.size
     out["labels"] = labels
-    out["reference"] = m & (np.abs(dev) <= thr) & np.isfinite(f)
+    ref = m & (np.abs(dev) <= thr) & np.isfinite(f)
+    if reference_mask is not None:
+        user = np.asarray(reference_mask, bool)[sl] & m & np.isfinite(f)
+        if user.sum() >= 10:
+            ref = user
+    out["reference"] = ref
     return out
 
 

@@ -300,3 +300,40 @@ def test_defects_figure_writes_png(survey_defects, tmp_path):
     out = defects_figure(t, survey_defects, tmp_path / "defects.png", regions=regions,
                          title="IR-01 north wall")
     assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948)
+
+
+def test_exterior_view_finds_warm_strip_with_its_psi():
+    # exterior view: steady 1-D surface temperatures with R_se = 0.04 m2K/W (ISO 6946:2017
+    # Table 7); q = (T_se - T_e) / R_se = U ΔT, so psi = (U_s - U_w) w exactly (ISO 10211).
+    from envelope.synth import steady_surface_temperatures
+
+    h, w = 100, 240
+    u = np.full((h, w), 0.3)
+    u[:, 100:110] = 1.1  # vertical strip, e.g. a steel post
+    _, t_se = steady_surface_temperatures(u, T_AI, T_AE)
+    t_se = t_se + np.random.default_rng(4).normal(0, 0.02, t_se.shape)
+    f = (t_se - T_AE) / (T_AI - T_AE)
+    q = (t_se - T_AE) / 0.04
+    regions = {"Gable": element("Gable", "wall", shapely.box(0, 0, w, h), (h, w))}
+    found = find_defects(t_se, f, q, np.full((h, w), PX_M**2), regions, "exterior",
+                         T_AI - T_AE, HDD, limits=(0.75, 0.6))
+    assert len(found) == 1 and found[0].defect_class == "linear thermal bridge"
+    assert found[0].orientation_deg == pytest.approx(90.0, abs=1.0)
+    assert found[0].psi_w_mk == pytest.approx(0.8 * 0.10, rel=0.05)
+    assert found[0].risk == "none"  # interior fRsi not measured on an exterior view
+
+
+def test_ceiling_patch_is_missing_insulation():
+    h, w = 120, 200
+    u = np.full((h, w), 0.2)
+    u[40:70, 60:95] = 1.8  # gap in loft insulation
+    t_obj = surface_temperature_for_u(u, T_AI, T_AE, T_R, EPS, H_C)
+    t, f, q = chain(t_obj, EPS, T_R, 9)
+    regions = {"Landing ceiling": element("Landing ceiling", "ceiling",
+                                          shapely.box(0, 0, w, h), (h, w))}
+    found = find_defects(t, f, q, np.full((h, w), PX_M**2), regions, "interior",
+                         T_AI - T_AE, HDD)
+    assert [d.defect_class for d in found] == ["missing insulation"]
+    assert any("ceiling" in r for r in found[0].reasons)
+    # chi = extra W / ΔT; the 1-D excess is (U_gap - U) A = 1.6 * 0.105 W/K
+    assert found[0].chi_w_k == pytest.approx(1.6 * 0.30 * 0.35, rel=0.05)
