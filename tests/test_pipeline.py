@@ -1,0 +1,142 @@
+"""The whole run on a small synthetic survey: outputs, determinism, partial failure,
+interruption, JSON summary, re-rendering and escaping.
+
+The scene comes from the project's forward model (tests/conftest.py), so these tests check
+consistency of the pipeline, not physical truth; outside references live in the module tests.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import signal
+import subprocess
+import sys
+import time
+
+import numpy as np
+from conftest import SURVEY_TOML, U_WALL, U_WINDOW, readings, write_survey
+from typer.testing import CliRunner
+
+from envelope.cli import app
+
+runner = CliRunner()
+
+OUTPUTS = ("results.json", "elements.csv", "defects.csv", "measures.csv", "report.html",
+           "check.html", "summary.html", "summary.pdf")
+
+
+def _assess(survey, out, *extra):
+    return runner.invoke(app, ["assess", str(survey), "--out", str(out), "--quiet", *extra])
+
+
+def test_every_output_written_and_truth_inside_interval(survey_dir, tmp_path):
+    out = tmp_path / "out"
+    res = _assess(survey_dir, out)
+    assert res.exit_code == 0, res.output
+    for name in OUTPUTS:
+        assert (out / name).stat().st_size > 0, name
+    r = json.loads((out / "results.json").read_text())
+    assert r["schema"] == "envelope-results" and r["schema_version"] == 1
+    els = {e["name"]: e for e in r["elements"]}
+    # truth of the synthetic scene (conftest): wall 0.5, window 2.8 W/m2K
+    for name, truth in (("test-wall", U_WALL), ("test-window", U_WINDOW)):
+        e = els[name]
+        assert e["u_low95_w_m2k"] <= truth <= e["u_high95_w_m2k"], e
+    # net area: 4 m x 3 m wall minus a 1.0 m x 1.25 m window (40 px/m), hand arithmetic
+    assert abs(els["test-wall"]["area_net_m2"] - (12.0 - 1.25)) < 1e-6
+    assert els["test-wall"]["verdict"] in ("pass", "fail", "inconclusive")
+    for fig in r["thermograms"][0]["figures"].values():
+        assert (out / fig).is_file(), fig
+    assert r["heat_loss"]["h_w_k"] > 0 and r["measures"][0]["kwh_saved_per_year"] > 0
+
+
+def test_results_byte_identical_on_rerun(survey_dir, tmp_path):
+    assert _assess(survey_dir, tmp_path / "a").exit_code == 0
+    assert _assess(survey_dir, tmp_path / "b").exit_code == 0
+    for name in ("results.json", "elements.csv", "defects.csv", "measures.csv"):
+        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes(), name
+
+
+def _ten_thermograms(root):
+    """The test survey with ten copies of its thermogram; the fourth one broken."""
+    block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
+    head = SURVEY_TOML[: SURVEY_TOML.index("[[thermograms]]")]
+    tail = SURVEY_TOML[SURVEY_TOML.index("[[measures]]"):]
+    blocks = []
+    for i in range(10):
+        blocks.append(block.replace('id = "room-north"', f'id = "view-{i}"')
+                      .replace("thermograms/room-north.npy", f"thermograms/view-{i}.npy"))
+    write_survey(root, head + "".join(blocks) + tail)
+    for i in range(10):
+        img = readings(seed=i)
+        if i == 3:
+            img = img + 273.15  # kelvin by mistake
+        np.save(root / "thermograms" / f"view-{i}.npy", img)
+    return root
+
+
+def test_broken_thermogram_leaves_the_other_nine(tmp_path):
+    root = _ten_thermograms(tmp_path / "s")
+    out = tmp_path / "out"
+    res = _assess(root, out, "--draws", "500")
+    assert res.exit_code == 3, res.output
+    r = json.loads((out / "results.json").read_text())
+    status = {t["id"]: t["status"] for t in r["thermograms"]}
+    assert status.pop("view-3") == "failed"
+    assert set(status.values()) == {"assessed"} and len(status) == 9
+    assert [f["thermogram"] for f in r["failures"]] == ["view-3"]
+    assert "kelvin" in r["failures"][0]["error"]
+    assert len({e["thermogram"] for e in r["elements"]}) == 9
+    assert "view-3" in (out / "report.html").read_text()
+
+
+def test_interrupt_leaves_no_output(tmp_path):
+    root = _ten_thermograms(tmp_path / "s")
+    out = tmp_path / "out"
+    env = dict(os.environ, MPLBACKEND="Agg")
+    proc = subprocess.Popen([sys.executable, "-m", "envelope.cli", "assess", str(root), "--out",
+                             str(out), "--quiet", "--draws", "200000"], env=env,
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    deadline = time.time() + 60
+    while time.time() < deadline and not any(p.name.startswith(".out.partial") for p in tmp_path.iterdir()):
+        time.sleep(0.05)
+    time.sleep(0.5)
+    proc.send_signal(signal.SIGINT)
+    _, err = proc.communicate(timeout=120)
+    assert proc.returncode == 130, err.decode()
+    assert not out.exists()
+    assert [p.name for p in tmp_path.iterdir()] == ["s"]
+
+
+def test_json_summary_and_rerender(survey_dir, tmp_path):
+    out = tmp_path / "out"
+    res = runner.invoke(app, ["assess", str(survey_dir), "--out", str(out), "--json"])
+    assert res.exit_code == 0, res.output
+    summary = json.loads(res.stdout)
+    assert {e["name"] for e in summary["elements"]} == {"test-wall", "test-window"}
+    (out / "report.html").unlink()
+    before = (out / "results.json").read_bytes()
+    res = runner.invoke(app, ["rerender", str(out), "--quiet"])
+    assert res.exit_code == 0, res.output
+    assert (out / "report.html").is_file() and (out / "results.json").read_bytes() == before
+    res = runner.invoke(app, ["rerender", str(tmp_path / "nothing-here")])
+    assert res.exit_code == 2 and "results.json" in res.output
+
+
+def test_names_reaching_html_are_escaped(tmp_path):
+    evil = "<script>alert(1)</script>"
+    text = SURVEY_TOML.replace('"test-wall"', json.dumps(evil))
+    root = write_survey(tmp_path / "s", text)
+    geo = json.loads((root / "outlines" / "room-north.geojson").read_text())
+    for f in geo["features"]:
+        if f["properties"]["element"] == "test-wall":
+            f["properties"]["element"] = evil
+    (root / "outlines" / "room-north.geojson").write_text(json.dumps(geo))
+    out = tmp_path / "out"
+    res = _assess(root, out)
+    assert res.exit_code == 0, res.output
+    for page in ("report.html", "check.html", "summary.html"):
+        html = (out / page).read_text()
+        assert evil not in html, page
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in (out / "report.html").read_text()
