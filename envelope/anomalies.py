@@ -338,7 +338,8 @@ def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, ext
     dict
         ``level``, ``sigma``, ``threshold``, ``slices`` (element bbox), ``labels`` (int
         array in the bbox), ``kept`` (list of (label, sign)), ``reference`` (bool array in
-        the bbox: the element pixels within the threshold of the reference level).
+        the bbox: the user's reference zone when given, else the element pixels within
+        the threshold of the reference level).
     """
     if side not in ("interior", "exterior"):
         raise ValueError(f"side must be one of ['interior', 'exterior'], got {side!r}")
