@@ -30,7 +30,7 @@ from envelope.report import (
 ImageFn = Callable[[str | None], str | None]
 
 CSS = """
-body{font-family:"DejaVu Sans",Arial,sans-serif;color:#1d1d1d;max-width:1100px;margin:1.5em auto;
+body{font-family:"DejaVu Sans",Arial,sans-serif;color:#1d1d1d;max-width:1250px;margin:1.5em auto;
 padding:0 1em;line-height:1.4;font-size:14px}
 h1{font-size:1.6em;margin-bottom:.2em}h2{font-size:1.25em;border-bottom:2px solid #3b4f6b;
 padding-bottom:.15em;margin-top:1.6em}h3{font-size:1.05em}
@@ -42,12 +42,15 @@ th{background:#e8ecf1}td.n{text-align:right;white-space:nowrap}
 .st-fail,.st-failed{color:#b00020}.st-inconclusive{color:#8a5a00}
 figure{display:inline-block;margin:.4em .8em .8em 0;vertical-align:top}
 figure img{width:480px;max-width:100%;border:1px solid #ccc}
+figure.chart img{width:860px}
 figcaption{font-size:.85em;color:#444}
 .meta{color:#444}.small{font-size:.85em}.box{border:1px solid #9aa3ad;padding:.6em .9em;
 margin:.8em 0;background:#f6f8fa}
+tr.sub td{font-size:.9em;color:#333;border-top:none}
 .fix{border:1px solid #9aa3ad;padding:.5em .9em;margin:1em 0;page-break-inside:avoid}
 .fix img{max-width:480px;width:100%}
-@media print{body{max-width:none;margin:0;font-size:11pt}h2{page-break-after:avoid}
+@media print{body{max-width:none;margin:0;font-size:10pt}.wide{overflow:visible}
+table{font-size:8.5pt}h2{page-break-after:avoid}
 figure,table,.fix{page-break-inside:avoid}a{color:inherit;text-decoration:none}}
 """
 
@@ -102,12 +105,14 @@ def status(word) -> Markup:
     return Markup(f'<span class="st st-{cls}">{esc(label)}</span>')
 
 
-def figure(uri: str | None, caption: str, missing_name: str | None = None) -> Markup:
+def figure(uri: str | None, caption: str, missing_name: str | None = None,
+           cls: str = "") -> Markup:
     """A figure from a data URI, or a text line saying it is missing."""
     if uri is None:
         return Markup(f'<p class="small">(figure not available: {esc(missing_name or caption)})'
                       "</p>") if missing_name else Markup("")
-    return Markup(f'<figure><img src="{esc(uri)}" alt="{esc(caption)}">'
+    klass = f' class="{esc(cls)}"' if cls else ""
+    return Markup(f'<figure{klass}><img src="{esc(uri)}" alt="{esc(caption)}">'
                   f"<figcaption>{esc(caption)}</figcaption></figure>")
 
 
@@ -204,29 +209,46 @@ METHOD_NOTES = (
 
 def _element_rows(results):
     for e in results.get("elements") or []:
-        yield (e.get("name"), e.get("kind"), e.get("thermogram"), fmt(e.get("area_net_m2"), 2),
-               fmt(e.get("u_w_m2k"), 3), interval(e), fmt(e.get("u_whole_w_m2k"), 3),
-               f"{e.get('u_method') or 'n/a'} / {e.get('h_c_model') or 'n/a'}",
-               "yes" if e.get("calibrated") else "no", fmt(e.get("emissivity"), 2),
-               fmt(e.get("frsi_min"), 2), fmt(e.get("frsi_p05"), 2),
+        yield (f"{e.get('name')} ({e.get('kind') or 'n/a'}, {e.get('thermogram') or 'n/a'})",
+               fmt(e.get("area_net_m2"), 2), fmt(e.get("u_w_m2k"), 3), interval(e),
+               fmt(e.get("u_whole_w_m2k"), 3),
+               f"{e.get('u_method') or 'n/a'} / {e.get('h_c_model') or 'n/a'}"
+               f"{'; calibrated' if e.get('calibrated') else ''}",
+               fmt(e.get("emissivity"), 2),
+               f"{fmt(e.get('frsi_min'))} / {fmt(e.get('frsi_p05'))}",
                f"{fmt(e.get('frsi_limit_mould'))} / {fmt(e.get('frsi_limit_condensation'))}",
                RISK_WORDS.get(str(e.get("risk")), e.get("risk") or "n/a"))
 
 
-def _defect_rows(results):
+def defects_table(results) -> Markup:
+    """Ranked defects: one row of numbers, one row of score and reasons below it."""
+    head = ("rank", "id", "element (thermogram)", "class (confidence)", "size", "junction",
+            "extra heat flow [W] ± std", "psi [W/(m·K)]", "chi [W/K]", "energy [kWh/yr]",
+            "fRsi min [-]", "risk")
+    rows = []
     for d in sorted(results.get("defects") or [], key=lambda d: d.get("rank") or 1e9):
         conf = d.get("confidence") or {}
         conf_txt = ", ".join(f"{k} {v:.0%}" for k, v in conf.items() if is_num(v))
-        reasons = Markup("<ul>" + "".join(f"<li>{esc(r)}</li>" for r in d.get("reasons") or [])
-                         + "</ul>")
-        size = (f"{fmt(d.get('area_m2'), 2, 'm²')}; length {fmt(d.get('length_m'), 2, 'm')}")
-        extra = f"{fmt(d.get('extra_w'), 1)} ± {fmt(d.get('extra_w_std'), 1)}"
-        yield (d.get("rank"), d.get("id"), d.get("thermogram"), d.get("element"),
-               f"{d.get('class') or 'n/a'} ({conf_txt})" if conf_txt else d.get("class"),
-               size, d.get("junction") or "-", extra, fmt(d.get("psi_w_mk"), 3),
-               fmt(d.get("chi_w_k"), 3), fmt(d.get("kwh_per_year"), 0),
-               fmt(d.get("frsi_min"), 2), RISK_WORDS.get(str(d.get("risk")), d.get("risk")),
-               d.get("score_text"), reasons)
+        cells = (d.get("rank"), d.get("id"), f"{d.get('element')} ({d.get('thermogram')})",
+                 f"{d.get('class') or 'n/a'}" + (f" ({conf_txt})" if conf_txt else ""),
+                 f"{fmt(d.get('area_m2'), 2, 'm²')}; length {fmt(d.get('length_m'), 2, 'm')}",
+                 d.get("junction") or "-",
+                 f"{fmt(d.get('extra_w'), 1)} ± {fmt(d.get('extra_w_std'), 1)}",
+                 fmt(d.get("psi_w_mk"), 3), fmt(d.get("chi_w_k"), 3),
+                 fmt(d.get("kwh_per_year"), 0), fmt(d.get("frsi_min"), 2),
+                 RISK_WORDS.get(str(d.get("risk")), d.get("risk") or "n/a"))
+        num = {6, 7, 8, 9, 10}
+        rows.append("<tr>" + "".join(f'<td class="n">{esc(c)}</td>' if k in num
+                                     else f"<td>{esc(c)}</td>" for k, c in enumerate(cells))
+                    + "</tr>")
+        reasons = "; ".join(str(r) for r in d.get("reasons") or []) or "none recorded"
+        rows.append(f'<tr class="sub"><td></td><td colspan="{len(head) - 1}">score: '
+                    f"{esc(d.get('score_text') or 'n/a')}. Reasons: {esc(reasons)}</td></tr>")
+    if not rows:
+        return Markup("<p>No defects found.</p>")
+    ths = "".join(f"<th>{esc(h)}</th>" for h in head)
+    return Markup(f'<div class="wide"><table><thead><tr>{ths}</tr></thead><tbody>'
+                  f"{''.join(rows)}</tbody></table></div>")
 
 
 def _measure_rows(results, currency):
@@ -289,11 +311,10 @@ def auditor_html(results: Mapping, image: ImageFn, charts: Mapping[str, str | No
             ["thermogram", "file", "error"],
             [(f.get("thermogram"), f.get("file"), f.get("error")) for f in failures])]
     parts += ["<h2>Elements and U-values</h2>", table(
-        ["element", "kind", "thermogram", "net area [m²]", "U [W/(m²·K)]",
+        ["element (kind, thermogram)", "net area [m²]", "U [W/(m²·K)]",
          "U 95 % interval [W/(m²·K)]", "U whole area [W/(m²·K)]", "method / h_c model",
-         "calibrated", "emissivity [-]", "fRsi min [-]", "fRsi 5th pct [-]",
-         "fRsi,min mould / condensation [-]", "risk"], list(_element_rows(results)),
-        numeric=(3, 4, 6, 9, 10, 11))]
+         "emissivity [-]", "fRsi min / 5th pct [-]", "fRsi,min mould / condensation [-]",
+         "risk"], list(_element_rows(results)), numeric=(1, 2, 4, 6))]
     lim = results.get("frsi_limit") or {}
     if lim:
         parts.append(table(["limit", "fRsi,min [-]", "critical month", "method"], [
@@ -301,19 +322,16 @@ def auditor_html(results: Mapping, image: ImageFn, charts: Mapping[str, str | No
             for k, v in lim.items() if isinstance(v, Mapping)]))
     parts += ["<h2>Defects, ranked</h2>",
               Markup("<p>Ranked by risk first (fRsi below its limit), then energy.</p>"),
-              table(["rank", "id", "thermogram", "element", "class (confidence)", "size",
-                     "junction", "extra heat flow [W] ± std", "psi [W/(m·K)]", "chi [W/K]",
-                     "energy [kWh/yr]", "fRsi min [-]", "risk", "score", "reasons"],
-                    list(_defect_rows(results)), numeric=(7, 8, 9, 10, 11))]
+              defects_table(results)]
     parts.append(_heat_loss_section(results, charts))
     parts += ["<h2>Retrofit case</h2>", table(
         ["measure", "kind", "targets", "cost", "saved [kWh/yr]", "95 % range [kWh/yr]",
-         "money [/yr]", "CO2 [kg/yr]", "simple payback [yr]"],
+         f"money [{cur}/yr]", "CO2 [kg/yr]", "simple payback [yr]"],
         list(_measure_rows(results, cur)), numeric=(3, 4, 6, 7, 8)),
         Markup("<p class='small'>Energy is delivered energy (fabric saving divided by the "
                "heating efficiency). The last row applies every measure together.</p>")]
     if charts.get("savings"):
-        parts.append(figure(charts["savings"], "yearly saving of each measure"))
+        parts.append(figure(charts["savings"], "yearly saving of each measure", cls="chart"))
     parts.append("<h2>Uncertainty budget</h2>")
     for e in results.get("elements") or []:
         budget = e.get("budget") or []
@@ -348,7 +366,8 @@ def _heat_loss_section(results, charts) -> Markup:
     if not h:
         return Markup("<h2>Heat loss</h2><p>No heat-loss figures in these results.</p>")
     rows = [
-        ("heat-loss coefficient H", f"{fmt(h.get('h_w_k'), 1)} ± {fmt(h.get('h_std_w_k'), 1)} W/K"),
+        ("heat-loss coefficient H (± standard uncertainty)",
+         f"{fmt(h.get('h_w_k'), 1)} ± {fmt(h.get('h_std_w_k'), 1)} W/K"),
         ("  of which elements (sum U A)", fmt(h.get("h_elements_w_k"), 1, "W/K")),
         ("  of which defects and bridges (sum psi L + chi)", fmt(h.get("h_defects_w_k"), 1, "W/K")),
         ("heat flow on the survey night", fmt(h.get("q_survey_w"), 0, "W")),
@@ -363,7 +382,7 @@ def _heat_loss_section(results, charts) -> Markup:
                    [(r.get("name"), fmt(r.get("h_w_k"), 2)) for r in h.get("by_element") or []],
                    numeric=(1,))]
     if charts.get("heat_loss"):
-        parts.append(figure(charts["heat_loss"], "heat-loss coefficient by element"))
+        parts.append(figure(charts["heat_loss"], "heat-loss coefficient by element", cls="chart"))
     return Markup("\n".join(parts))
 
 
