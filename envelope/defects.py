@@ -380,8 +380,9 @@ def rank_defects(defects, assign_ids: bool = True):
     ----------
     defects : iterable of Defect
     assign_ids : bool
-        Give ids "D1", "D2", ... in rank order to defects whose id is empty (all ids when
-        every id is empty), so that ids are stable for a given input.
+        Number the ids "D1", "D2", ... in rank order (replacing any earlier ids, so that a
+        ranking over several thermograms gives unique ids). The order is total, so the ids
+        are stable for a given input.
 
     Returns
     -------
@@ -406,7 +407,7 @@ def rank_defects(defects, assign_ids: bool = True):
         d.rank = i
         d.score_text = (f"risk: {d.risk} ({d.score_risk}) · energy: "
                         f"{d.score_energy_kwh:.0f} kWh/yr")
-        if assign_ids and not d.id:
+        if assign_ids:
             d.id = f"D{i}"
     return items
 
@@ -564,8 +565,11 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             near = [j for j in r.junctions if j.distance_m <= settings.junction_m]
             risk = _risk(r.frsi_p05, limits, side)
             if limits is not None and side == "interior":
-                notes.append(f"fRsi p05 {r.frsi_p05:.3f} against limits mould "
-                             f"{limits[0]:.3f}, condensation {limits[1]:.3f}")
+                given = [f"{n} {v:.3f}" for n, v in zip(("mould", "condensation"), limits,
+                                                         strict=True) if v is not None]
+                if given:
+                    notes.append(f"fRsi p05 {r.frsi_p05:.3f} against limits "
+                                 + ", ".join(given))
             defects.append(Defect(
                 id="", thermogram=thermogram_id, element=el.name, defect_class=cls,
                 confidence=conf, reasons=reasons, area_m2=r.area_m2,

@@ -337,3 +337,12 @@ def test_ceiling_patch_is_missing_insulation():
     assert any("ceiling" in r for r in found[0].reasons)
     # chi = extra W / ΔT; the 1-D excess is (U_gap - U) A = 1.6 * 0.105 W/K
     assert found[0].chi_w_k == pytest.approx(1.6 * 0.30 * 0.35, rel=0.05)
+
+
+def test_global_ranking_renumbers_ids_across_thermograms():
+    a = rank_defects([_defect("none", 10.0), _defect("mould", 1.0)])
+    b = rank_defects([_defect("none", 50.0)])
+    assert [d.id for d in a + b] == ["D1", "D2", "D1"]
+    merged = rank_defects(a + b)
+    assert [(d.id, d.risk, d.kwh_per_year) for d in merged] == [
+        ("D1", "mould", 1.0), ("D2", "none", 50.0), ("D3", "none", 10.0)]
