@@ -51,6 +51,7 @@ class ElementResult:
     frsi_min: float | None = None
     frsi_p05: float | None = None
     risk: str | None = None
+    risk_note: str = ""
     t_si_design_c: float | None = None
     rh_si_design: float | None = None
     u_specified_w_m2k: float | None = None
@@ -356,6 +357,11 @@ def frsi_verdict(res: ElementResult, frsi_values, survey: Survey, limits):
     rh_i = _design_rh(survey, mould, crit)
     v = condensation.assess_frsi(frsi_values, mould, cond, t_i, t_e, rh_i)
     res.frsi_min, res.frsi_p05, res.risk = v.frsi_min, v.frsi_p05, v.risk
+    if res.kind == "window" and v.risk == "mould":
+        # glazing and frames do not feed mould the way opaque surfaces do; what matters on
+        # them is surface condensation (critical surface humidity 1.0) — common practice
+        res.risk = "none"
+        res.risk_note = "glazing: judged against the condensation limit only"
     res.t_si_design_c, res.rh_si_design = v.t_si_design_c, v.rh_si_design
 
 
