@@ -42,121 +42,64 @@ MEASURE_KINDS = ("add_layer", "replace_glazing", "seal_leak", "fix_bridge")
 
 @dataclass(frozen=True)
 class ElementLoss:
-    """One element as the energy balance sees it.
-
-    Attributes
-    ----------
-    name : str
-    u_w_m2k : float
-        U-value of the undisturbed area [W m-2 K-1].
-    u_std_w_m2k : float
-        Standard uncertainty of ``u_w_m2k`` [W m-2 K-1].
-    area_m2 : float
-        Net area (openings cut out) [m2].
-    """
+    """One element as the energy balance sees it."""
 
     name: str
-    u_w_m2k: float
-    u_std_w_m2k: float
-    area_m2: float
+    u_w_m2k: float  # U of the undisturbed area [W m-2 K-1]
+    u_std_w_m2k: float  # its standard uncertainty [W m-2 K-1]
+    area_m2: float  # net area, openings cut out [m2]
 
 
 @dataclass(frozen=True)
 class DefectLoss:
-    """One defect as an extra heat-loss coefficient.
-
-    Attributes
-    ----------
-    id : str
-    h_w_k : float
-        Extra heat-loss coefficient [W/K]: psi*L, chi, or extra W / survey delta T.
-    h_std_w_k : float
-        Its standard uncertainty [W/K].
-    kind : str
-        ``"linear"``, ``"point"`` or ``"leak"`` (informative only).
-    length_m : float or None
-        Length of a linear bridge [m]; lets ``fix_bridge`` apply a new psi.
-    element : str or None
-        Element the defect sits on.
-    """
+    """One defect as an extra heat-loss coefficient [W/K]: psi L, chi, or W / survey dT."""
 
     id: str
-    h_w_k: float
-    h_std_w_k: float = 0.0
-    kind: str = "linear"
-    length_m: float | None = None
-    element: str | None = None
+    h_w_k: float  # extra heat-loss coefficient [W/K]
+    h_std_w_k: float = 0.0  # its standard uncertainty [W/K]
+    kind: str = "linear"  # "linear", "point" or "leak" (informative)
+    length_m: float | None = None  # length of a linear bridge [m]: lets fix_bridge set psi
+    element: str | None = None  # element the defect sits on
 
 
 @dataclass(frozen=True)
 class HeatLoss:
-    """Fabric heat-loss coefficient with its parts [W/K].
-
-    Attributes
-    ----------
-    h_w_k, h_std_w_k : float
-        Total H and its standard uncertainty.
-    h_elements_w_k, h_defects_w_k : float
-        Share of the elements (sum U A) and of the bridges/defects (sum psi L + sum chi).
-    by_element : tuple of (name, h_w_k)
-    by_defect : tuple of (id, h_w_k)
-    """
+    """Fabric heat-loss coefficient H with its parts [W/K]; ``by_*`` as (name, W/K)."""
 
     h_w_k: float
-    h_std_w_k: float
-    h_elements_w_k: float
-    h_defects_w_k: float
+    h_std_w_k: float  # standard uncertainty (independent elements)
+    h_elements_w_k: float  # sum U A
+    h_defects_w_k: float  # sum psi L + sum chi (leaks included)
     by_element: tuple[tuple[str, float], ...] = ()
     by_defect: tuple[tuple[str, float], ...] = ()
 
     def to_dict(self) -> dict:
         """Plain dict in the results-schema shape (``by_element`` as a list of dicts)."""
-        return {
-            "h_w_k": self.h_w_k,
-            "h_std_w_k": self.h_std_w_k,
-            "h_elements_w_k": self.h_elements_w_k,
-            "h_defects_w_k": self.h_defects_w_k,
-            "by_element": [{"name": n, "h_w_k": h} for n, h in self.by_element],
-            "by_defect": [{"id": i, "h_w_k": h} for i, h in self.by_defect],
-        }
+        return {"h_w_k": self.h_w_k, "h_std_w_k": self.h_std_w_k,
+                "h_elements_w_k": self.h_elements_w_k, "h_defects_w_k": self.h_defects_w_k,
+                "by_element": [{"name": n, "h_w_k": h} for n, h in self.by_element],
+                "by_defect": [{"id": i, "h_w_k": h} for i, h in self.by_defect]}
 
 
 @dataclass(frozen=True)
 class Measure:
-    """A proposed retrofit measure.
+    """A proposed retrofit measure; ``kind`` one of `MEASURE_KINDS`.
 
-    Attributes
-    ----------
-    name : str
-    kind : {"add_layer", "replace_glazing", "seal_leak", "fix_bridge"}
-    elements : tuple of str
-        Element names it acts on (``add_layer``, ``replace_glazing``).
-    defects : tuple of str
-        Defect ids it acts on (``seal_leak``, ``fix_bridge``).
-    thickness_m, conductivity_w_mk : float
-        Added layer [m] and its thermal conductivity [W m-1 K-1] (``add_layer``).
-    new_u_w_m2k : float
-        U of the new glazing/door [W m-2 K-1] (``replace_glazing``), taken as exact.
-    new_psi_w_mk : float or None
-        Remaining psi after the fix [W m-1 K-1] (``fix_bridge``); None removes the extra
-        entirely.
-    leak_fraction_removed : float
-        Share of a leak's extra heat removed by sealing (``seal_leak``), default 0.8.
-    cost : float
-        Cost in the survey's currency.
-    lifetime_years : float or None
+    ``add_layer`` and ``replace_glazing`` act on ``elements`` (names), ``seal_leak`` and
+    ``fix_bridge`` on ``defects`` (ids). A new glazing U is taken as exact; ``fix_bridge``
+    without ``new_psi_w_mk`` removes the defect's extra loss entirely.
     """
 
     name: str
     kind: str
     elements: tuple[str, ...] = ()
     defects: tuple[str, ...] = ()
-    thickness_m: float | None = None
-    conductivity_w_mk: float | None = None
-    new_u_w_m2k: float | None = None
-    new_psi_w_mk: float | None = None
-    leak_fraction_removed: float = DEFAULT_LEAK_FRACTION_REMOVED
-    cost: float = 0.0
+    thickness_m: float | None = None  # added layer [m] (add_layer)
+    conductivity_w_mk: float | None = None  # its conductivity [W m-1 K-1] (add_layer)
+    new_u_w_m2k: float | None = None  # new glazing/door U [W m-2 K-1] (replace_glazing)
+    new_psi_w_mk: float | None = None  # remaining psi [W m-1 K-1] (fix_bridge)
+    leak_fraction_removed: float = DEFAULT_LEAK_FRACTION_REMOVED  # (seal_leak) [-]
+    cost: float = 0.0  # in the survey's currency
     lifetime_years: float | None = None
 
 
@@ -164,19 +107,11 @@ class Measure:
 class EnergyPrices:
     """Prices and factors (all user inputs).
 
-    Attributes
-    ----------
-    price_per_kwh : float
-        Price of delivered energy [currency/kWh].
-    heating_efficiency : float
-        Delivered-to-useful efficiency of the heating system [-]; above 1 for a heat pump
-        (its seasonal coefficient of performance).
-    co2_kg_per_kwh : float
-        Emission factor of delivered energy [kg CO2/kWh].
-    currency : str
+    ``heating_efficiency`` is delivered-to-useful [-], above 1 for a heat pump (its seasonal
+    coefficient of performance); ``co2_kg_per_kwh`` is per kWh delivered.
     """
 
-    price_per_kwh: float
+    price_per_kwh: float  # [currency/kWh] delivered
     heating_efficiency: float = 1.0
     co2_kg_per_kwh: float = 0.0
     currency: str = ""
