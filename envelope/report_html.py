@@ -57,7 +57,8 @@ figure,table,.fix{page-break-inside:avoid}a{color:inherit;text-decoration:none}}
 BUILDER_CSS = """
 @page{size:A4 portrait;margin:12mm}
 body{max-width:186mm;font-size:11px;margin:0 auto}h1{font-size:1.4em}h2{font-size:1.1em;margin-top:.8em}
-figure img{max-width:58mm;max-height:45mm;width:auto}
+figure img{width:auto;max-width:88mm;max-height:62mm}
+td:nth-child(6){width:36%}
 """
 
 IMAGES_SCRIPT = Markup("""<script>

@@ -84,3 +84,18 @@ def test_report_renders(chromium, reports, key, tmp_path):
     assert count >= 3
     console = [ln for ln in dom.stderr.splitlines() if ":CONSOLE" in ln or "Uncaught" in ln]
     assert console == [], console
+
+
+def test_builder_sheet_prints_on_one_a4_page(chromium, reports, tmp_path):
+    import pypdf
+
+    pdf = tmp_path / "check.pdf"
+    run(chromium, tmp_path / "p3", "--no-pdf-header-footer", f"--print-to-pdf={pdf}",
+        reports["check"].resolve().as_uri())
+    reader = pypdf.PdfReader(pdf)
+    assert len(reader.pages) == 1
+    # ISO 216 A4: 210 mm x 297 mm = 595.3 pt x 841.9 pt (1 pt = 25.4/72 mm); Chromium
+    # rounds to whole device pixels, hence 1 pt tolerance
+    box = reader.pages[0].mediabox
+    assert float(box.width) == pytest.approx(595.3, abs=1.0)
+    assert float(box.height) == pytest.approx(841.9, abs=1.0)
