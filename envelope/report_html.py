@@ -470,7 +470,7 @@ def found_lines(results: Mapping) -> list[str]:
         lo = h["annual_kwh"] - 1.96 * (h.get("annual_kwh_std") or 0.0)
         hi = h["annual_kwh"] + 1.96 * (h.get("annual_kwh_std") or 0.0)
         lines.append(f"The surveyed walls, windows and roofs lose {about_range(lo, hi, 'kWh')}"
-                     " of heat a year (before your boiler's or heat pump's efficiency).")
+                     " (kilowatt-hours, the units on your energy bill) of heat a year (before your boiler's or heat pump's efficiency).")
     for e in results.get("elements") or []:
         if is_num(e.get("u_w_m2k")):
             risk = RISK_WORDS.get(str(e.get("risk")), "risk not assessed")

@@ -200,3 +200,17 @@ def test_measures_table_and_about_range():
     assert len(frame) == 5 and frame["measure"].iloc[-1] == "all measures together"
     assert about_range(123.0, 178.0, "EUR") == "about 120 to 180 EUR"
     assert about_range(-5.0, 40.0) == "about 0 to 40"
+
+
+def test_charts_accept_energy_dataclasses(tmp_path):
+    from envelope.energy import EnergyPrices, Measure, evaluate_measures, heat_loss_coefficient
+    from envelope.plots.energy import heat_loss_chart, savings_chart
+
+    walls = [("wall", 1.5, 0.1, 40.0), ("roof", 0.6, 0.05, 30.0)]
+    ms = [Measure("lining", "add_layer", elements=("wall",), thickness_m=0.05,
+                  conductivity_w_mk=0.035, cost=3000.0)]
+    res = evaluate_measures(ms, walls, [], EnergyPrices(0.25, 0.9, 0.2, "EUR"), 2200.0)
+    p1 = savings_chart(res, tmp_path / "s.png", "EUR")
+    p2 = heat_loss_chart(heat_loss_coefficient(walls), None, tmp_path / "h.png")
+    for p in (p1, p2):
+        assert p.read_bytes().startswith(b"\x89PNG\r\n\x1a\n")  # PNG signature, RFC 2083
