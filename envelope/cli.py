@@ -314,7 +314,10 @@ def outline(
         obj = _correct(s, tg, img, eps)[0]
     except SurveyError as exc:
         _fail(exc)
-    run_editor(obj, outlines or tg.outlines, element_names=tuple(s.elements), title=tg.id)
+    try:
+        run_editor(obj, outlines or tg.outlines, element_names=tuple(s.elements), title=tg.id)
+    except RuntimeError as exc:  # no interactive matplotlib backend (no display)
+        _fail(SurveyError(f"cannot open a window here ({exc}); run on a machine with a display"))
 
 
 def main() -> None:  # pragma: no cover - console entry

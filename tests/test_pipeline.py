@@ -140,3 +140,32 @@ def test_names_reaching_html_are_escaped(tmp_path):
         html = (out / page).read_text()
         assert evil not in html, page
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in (out / "report.html").read_text()
+
+
+def test_correct_writes_surface_temperatures(survey_dir, tmp_path):
+    import tifffile
+
+    from envelope import synth
+
+    out = tmp_path / "corr"
+    res = runner.invoke(app, ["correct", str(survey_dir), "--out", str(out), "--quiet"])
+    assert res.exit_code == 0, res.output
+    img = tifffile.imread(out / "room-north-surface-c.tif")
+    # truth: the wall's surface temperature from the forward model (conftest); the test
+    # scene carries a +0.3 K camera offset and 0.05 K noise, which the correction keeps
+    t_wall = synth.surface_temperature_for_u(0.5, 21.0, 1.0, 20.0, 0.93, 2.5)
+    assert abs(float(np.median(img[5:25, 5:90])) - t_wall) < 0.45
+    assert json.loads((out / "corrected.json").read_text())[0]["unit"] == "°C"
+
+
+def test_outline_without_display_is_a_clear_error(survey_dir, monkeypatch):
+    import envelope.editor as editor
+
+    def no_window(*a, **k):
+        raise RuntimeError("no interactive backend")
+
+    monkeypatch.setattr(editor, "run_editor", no_window)
+    res = runner.invoke(app, ["outline", str(survey_dir), "room-north"])
+    assert res.exit_code == 2 and "window" in res.output
+    res = runner.invoke(app, ["outline", str(survey_dir), "no-such-view"])
+    assert res.exit_code == 2 and "room-north" in res.output
