@@ -652,6 +652,8 @@ def energy_case(survey: Survey, elements: list, defects: list, checks: list, not
         measures = [m.to_dict() for m in energy.evaluate_measures(ms, el_loss, d_loss, prices,
                                                                   cl.heating_degree_days_kd)]
         package = energy.package_result(ms, el_loss, d_loss, prices, cl.heating_degree_days_kd).to_dict()
+        after_e, after_d = energy.apply_measures(ms, el_loss, d_loss)
+        heat["after_measures"] = energy.heat_loss_coefficient(after_e, after_d).to_dict()
     elif survey.measures:
         notes.append("measures given but no energy price or degree-days: retrofit case left out")
     return heat, measures, package

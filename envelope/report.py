@@ -27,7 +27,7 @@ PNG_MAGIC = b"\x89PNG\r\n\x1a\n"
 CAUTIONS = (
     "Thermography indicates; it does not prove. Confirm what a thermal image suggests by "
     "opening up, inspecting or measuring the heat flux before paying for expensive work.",
-    "A depressurisation (blower-door) test can pull flue gases back into the house from "
+    "A fan depressurisation test can pull flue gases back into the house from "
     "open-flue appliances such as gas fires, boilers or wood stoves. Such tests belong to "
     "trained people, with those appliances switched off and made safe first.",
     "Roofs and ladders, electrical equipment and gas equipment carry hazards of their own: "

@@ -140,7 +140,9 @@ def to_results(a) -> dict:
         "thermograms": thermograms,
         "elements": elements,
         "defects": [defect_to_dict(d) for d in a.defects],
-        "heat_loss": a.heat_loss,
+        "heat_loss": None if a.heat_loss is None else {
+            k: v for k, v in a.heat_loss.items() if k != "after_measures"},
+        "heat_loss_after": None if a.heat_loss is None else a.heat_loss.get("after_measures"),
         "measures": a.measures,
         "package": a.package,
         "series": series,
