@@ -295,10 +295,15 @@ def assess_element(survey: Survey, tg: Thermogram, reg, obj, apparent, eps, tau,
     est = uncertainty.monte_carlo_u(inputs, n_draws=survey.analysis.monte_carlo_draws,
                                     seed=survey.analysis.seed)
     u_valid, u_note = True, ""
-    if any(ch.name == "night sky" and ch.status == "fail" for ch in el_checks) or est.u_w_m2k <= 0:
+    if any(ch.name == "night_sky" and ch.status == "fail" for ch in el_checks):
         u_valid = False
         u_note = ("not a valid result: the exterior surface is colder than the outdoor air "
-                  "(night-sky cooling) or the balance gives U ≤ 0; use an interior view")
+                  "(night-sky cooling), so the exterior balance cannot give U; use an interior view")
+    elif est.u_w_m2k <= 0:
+        u_valid = False
+        u_note = ("not a valid result: the surface balance gives U ≤ 0 — the surface–air "
+                  "difference is smaller than the temperature uncertainty; add a contact-probe "
+                  "spot or survey on a colder night")
     res = ElementResult(
         name=reg.name, kind=el.kind, thermogram=tg.id, side=tg.side, area_net_m2=reg.area_m2,
         emissivity=float(eps), u_w_m2k=est.u_w_m2k, u_std_w_m2k=est.u_std,
