@@ -116,6 +116,7 @@ class View:
     shift_px: tuple = (0.0, 0.0)
     extra_u: object = None  # extra U on the cells of LEAK_GRID (air leak plume)
     ref_corners: tuple = ()
+    probe_m: tuple | None = None  # façade point [m] of the contact-probe reading
     note: str = ""
 
     @property
@@ -277,7 +278,7 @@ def leak_field(strength, threshold, noise):
     below = np.clip(1.15 - yg, 0.0, None)
     above = np.clip(yg - 1.95, 0.0, None)
     dx = np.clip(1.2 - xg, 0.0, None)
-    plume = (np.exp(-dx / (0.08 + 0.30 * below)) * np.exp(-below / 0.30)
+    plume = (np.exp(-dx / (0.08 + 0.30 * below)) * np.exp(-below / 0.45)
              * np.exp(-above / 0.04) * np.exp(0.5 * noise))
     grid = strength * np.clip((plume - threshold) / (1.0 - threshold), 0.0, 1.0) * (xg < 1.2)
 
@@ -302,6 +303,7 @@ def build_views():
     v.outlines = [("kitchen-south-wall", "element", wall),
                   ("kitchen-south-wall", "reference", rect(0.4, 0.5, 1.8, 1.9))]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
+    v.probe_m = (1.1, 1.0)
     v.note = ("Cavity wall (partial fill, U 0.55) with a contact-probe spot, an emissivity tape and"
               " a polished steel splashback that mirrors a 50 °C radiator.")
     views.append(v)
@@ -316,6 +318,7 @@ def build_views():
     v.outlines = [("bedroom-east-wall", "element", wall),
                   ("bedroom-east-wall", "reference", rect(0.4, 0.7, 1.6, 1.9))]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
+    v.probe_m = (1.0, 1.3)
     v.note = "Internally insulated solid wall (spec U 0.30, built 0.28) with one missing batt."
     views.append(v)
     truth_el["bedroom-east-wall"] = dict(kind="wall", u=0.28, poly=wall, view=v, u_map=[(batt, 1.6)])
@@ -336,6 +339,7 @@ def build_views():
     v.outlines = [("gable-west-wall", "element", gable),
                   ("gable-west-wall", "reference", rect(1.29, 0.3, 1.71, 1.0))]
     v.ref_corners = ((0, 0), (w, 0), (w, h_eave), (0, h_eave))
+    v.probe_m = (1.5, 0.6)
     v.note = ("Timber-frame gable of the loft room (spec U 0.35): clear field 0.32, studs 45 mm"
               " wide at 600 mm centres 0.90. Exported with emissivity 1.")
     views.append(v)
@@ -358,6 +362,7 @@ def build_views():
                   ("lounge-south-wall", "reference", rect(0.5, 0.8, 2.0, 1.9)),
                   ("lounge-floor", "element", floor_poly)]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
+    v.probe_m = (1.2, 1.4)
     v.note = ("Cavity wall with a cold strip along the wall–floor junction (psi 0.15 W/mK) above"
               " the suspended timber floor.")
     views.append(v)
@@ -382,6 +387,7 @@ def build_views():
                       ("dining-west-wall", "reference", rect(2.7, 0.5, 3.3, 1.8)),
                       ("dining-window", "element", outer)]
         v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
+        v.probe_m = (3.0, 1.2)
         views.append(v)
         truth_def.append(dict(cls="air leakage", view=v, element="dining-west-wall", grid=grid,
                               u_ref=U_CAVITY,
@@ -407,6 +413,7 @@ def build_views():
     v.outlines = [("landing-ceiling", "element", ceiling),
                   ("landing-ceiling", "reference", rect(0.3, 0.3, 1.4, 1.8))]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
+    v.probe_m = (0.8, 1.0)
     v.note = "Ceiling below the cold loft (U 0.25) seen from below; one gap in the insulation."
     views.append(v)
     truth_el["landing-ceiling"] = dict(kind="ceiling", u=0.25, poly=ceiling, view=v, u_map=[(gap, 2.2)])
@@ -418,13 +425,14 @@ def build_views():
     wall = rect(0, 0, w, h)
     o1, g1, win1 = window(1.0, 0.9, 2.6, 2.2, "exterior")
     o2, g2, win2 = window(4.6, 3.3, 5.8, 4.5, "exterior")
-    v = View("front-oblique", "exterior", w, h, 45.0, -5.0, 11.5, T_REFL_E_C, (0.95, 20.0), 40.0)
+    v = View("front-oblique", "exterior", w, h, 45.0, -4.0, 11.0, T_REFL_E_C, (0.95, 20.0), 40.0)
     v.surfaces = [Surface(None, side="fixed", eps=1.0, t_fixed_c=T_SKY_C - 2.0),  # sky
                   Surface(rect(-BIG, -BIG, BIG, 0.0), side="fixed", eps=0.95, t_fixed_c=T_GROUND_C),
                   Surface(wall, 1.7, BRICK, "exterior", H_CE)] + win1 + win2
     v.outlines = [("front-wall", "element", wall), ("front-wall", "reference", rect(3.0, 0.6, 4.2, 2.8)),
                   ("front-window-ground", "element", o1), ("front-window-first", "element", o2)]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
+    v.probe_m = (3.6, 1.6)
     v.note = ("Street façade (north, solid brick, U 1.7) from the pavement at 45°, true"
               " perspective; two double-glazed windows.")
     views.append(v)
@@ -458,6 +466,7 @@ def build_views():
     v.outlines = [("study-south-wall", "element", wall),
                   ("study-south-wall", "reference", rect(0.5, 0.5, 2.7, 1.9))]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
+    v.probe_m = (1.6, 1.2)
     v.note = ("160 x 120 px frame of the study wall at 01:00, one of the night-long series"
               " (19:00–06:30, every 30 min); the wall lags the falling outdoor air.")
     views.append(v)
@@ -774,7 +783,7 @@ def main(out_dir=None) -> Path:
     """Write the whole survey folder into `out_dir` (default: this script's folder)."""
     out = Path(out_dir) if out_dir is not None else Path(__file__).resolve().parent
     views, el_truth, def_truth = build_views()
-    probes, tapes, therm_truth, reflection = {}, {}, {}, None
+    probes, probe_truth, tapes, therm_truth, reflection = {}, {}, {}, {}, None
     for k, v in enumerate(views):
         write_json(out / "outlines" / f"{v.id}.geojson", outline_collection(v))
         air, rh = air_and_rh(v)
@@ -787,15 +796,19 @@ def main(out_dir=None) -> Path:
             "pixel_to_metre_homography": [[_r(x, 9) for x in row] for row in v.homography],
             "camera_shift_px": list(v.shift_px),
         }
-        if v.shape == SERIES_SHAPE:
-            continue
-        obj, eps, refl = render_object(v)
-        write_tiff(out / "thermograms" / f"{v.id}.tif",
-                   render_reading(v, obj, eps, refl, np.random.default_rng([SEED, k])))
-        if v.id == "kitchen-south":
-            xy, (r, c) = _pixel_of(v, 1.1, 1.0)
+        if v.shape == SERIES_SHAPE:  # frames written by write_series; this one at 01:00
+            obj, _, _ = render_object(v, float(indoor_air_c(SURVEY_HOUR)),
+                                      float(lagged_outdoor_c(SURVEY_HOUR)))
+        else:
+            obj, eps, refl = render_object(v)
+            write_tiff(out / "thermograms" / f"{v.id}.tif",
+                       render_reading(v, obj, eps, refl, np.random.default_rng([SEED, k])))
+        if v.probe_m is not None:
+            xy, (r, c) = _pixel_of(v, *v.probe_m)
             probes[v.id] = [{"pixel_xy": xy, "surface_c": round(float(obj[r, c]), 1),
                              "uncertainty_k": 0.2}]
+            probe_truth[v.id] = {"pixel_xy": xy, "surface_true_c": _r(obj[r, c], 3)}
+        if v.id == "kitchen-south":
             t_xy, _ = _pixel_of(v, 2.025, 1.325)
             s_xy, _ = _pixel_of(v, 2.15, 1.325)
             tapes[v.id] = [{"pixel_xy": t_xy, "emissivity": 0.95, "surface_pixel_xy": s_xy}]
@@ -823,7 +836,7 @@ def main(out_dir=None) -> Path:
                        "h_ci_w_m2k": dict(H_CI), "heating_degree_days_base_c": HDD_BASE_C},
         "elements": elements, "defects": defects_truth(def_truth), "reflection": reflection,
         "thermograms": therm_truth, "series": series,
-        "probes": probes, "tapes": tapes,
+        "probes": probe_truth, "tapes": tapes,
     }
     history = ([round(float(outdoor_air_c(h)), 1) for h in np.arange(7.0, SURVEY_HOUR + 0.5)],
                [round(float(indoor_air_c(h)), 1) for h in np.arange(7.0, SURVEY_HOUR + 0.5)])
