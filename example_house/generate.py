@@ -452,6 +452,7 @@ def build_views():
     v.outlines = [("garden-room-east-wall", "element", wall),
                   ("garden-room-east-wall", "reference", rect(0.8, 0.6, 4.2, 2.1))]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
+    v.probe_m = (2.5, 1.3)
     v.note = ("Rendered timber-frame garden room (U 0.22) from outside: its surface is colder than"
               " the air under the night sky, so the exterior method must not be trusted here.")
     views.append(v)
