@@ -604,7 +604,7 @@ def find_repetition(regions, settings=DefectSettings()) -> list[list[int]]:
     Notes
     -----
     Elongated regions are grouped by orientation (within ``repetition_tol`` × 90°) and
-    length (within a factor ``1 + 2 repetition_tol``). In each group the centroids are
+    width (within a factor ``1 + 2 repetition_tol``; lengths may differ, as under a gable). In each group the centroids are
     projected on the normal to the common direction and sorted; the group is a repetition
     when every gap is within ``repetition_tol`` of a whole multiple of the median gap (one
     hidden member is allowed for) and at least ``min_repeats`` members remain. The
@@ -618,10 +618,12 @@ def find_repetition(regions, settings=DefectSettings()) -> list[list[int]]:
         if i in used:
             continue
         ri = regions[i]
+        # members share direction and width (studs of one frame have one width; their
+        # lengths differ under a gable or around openings)
         members = [j for j in idx if j not in used
                    and _angle_diff(regions[j].orientation_deg, ri.orientation_deg) <= tol_deg
-                   and max(regions[j].length_m, ri.length_m)
-                   <= (1 + 2 * settings.repetition_tol) * min(regions[j].length_m, ri.length_m)]
+                   and max(regions[j].width_m, ri.width_m)
+                   <= (1 + 2 * settings.repetition_tol) * min(regions[j].width_m, ri.width_m)]
         if len(members) < settings.min_repeats:
             continue
         th = np.radians(ri.orientation_deg)

@@ -34,6 +34,7 @@ class ElementResult:
     thermogram: str
     side: str
     area_net_m2: float
+    area_source: str
     emissivity: float
     u_w_m2k: float
     u_std_w_m2k: float
@@ -182,12 +183,71 @@ def _homography(tg: Thermogram, shape, label: str):
                       "[thermograms.known_length]", label, "reference_points")
 
 
+@dataclass(frozen=True)
+class Offset:
+    """Camera offset removed from a thermogram's apparent temperatures [K].
+
+    ``value_k`` is what the camera read too warm (positive) at the reference; ``u_k`` the
+    standard uncertainty left after the correction; ``source`` says where it came from.
+    """
+
+    value_k: float = 0.0
+    u_k: float | None = None
+    source: str = ""
+
+
+def camera_offset(survey: Survey, tg: Thermogram, apparent_c, eps_map, tau, atm) -> Offset:
+    """The camera's offset from the thermogram's contact-probe spots (their mean), else the
+    survey's ``[camera] offset_k``, else none.
+
+    Notes
+    -----
+    At a probe the expected apparent temperature follows from the measurement equation with
+    the probe's surface temperature; the offset is measured − expected (3 × 3 px mean). The
+    camera's offset is one number per image (its absolute error), so it is removed from every
+    pixel; what is left is the probe's uncertainty and the camera's relative accuracy
+    (rectangular, ±``relative_accuracy_k``).
+    """
+    band = survey.camera.band_um
+    deltas, u_probe = [], []
+    h, w = apparent_c.shape
+    for i, p in enumerate(tg.probes):
+        col, row = int(math.floor(p.pixel_xy[0])), int(math.floor(p.pixel_xy[1]))
+        if not (0 <= row < h and 0 <= col < w):
+            raise SurveyError(f"probe pixel {list(p.pixel_xy)} lies outside the {w}×{h} px frame",
+                              survey.file.name, f"thermograms[{tg.id}].probes[{i}].pixel_xy")
+        measured = float(np.nanmean(apparent_c[max(row - 1, 0): row + 2, max(col - 1, 0): col + 2]))
+        if not math.isfinite(measured):
+            raise SurveyError("probe pixel has no valid reading around it", survey.file.name,
+                              f"thermograms[{tg.id}].probes[{i}].pixel_xy")
+        expected = float(radiometry.apparent_temperature(p.surface_c, float(eps_map[row, col]),
+                                                         tg.reflected_c, tau, atm, band_um=band))
+        deltas.append(measured - expected)
+        u_probe.append(p.uncertainty_k)
+    rel = survey.camera.relative_accuracy_k / math.sqrt(3.0)
+    if deltas:
+        u = math.sqrt(float(np.mean(np.square(u_probe))) / len(u_probe) + rel**2)
+        return Offset(float(np.mean(deltas)), u,
+                      f"contact probe{'s' if len(deltas) > 1 else ''} in this thermogram: camera read "
+                      f"{np.mean(deltas):+.2f} K, removed")
+    cam = survey.camera
+    if cam.offset_k is not None:
+        u = math.sqrt(cam.offset_uncertainty_k**2 + rel**2)
+        return Offset(cam.offset_k, u, f"survey camera offset {cam.offset_k:+.2f} K removed")
+    return Offset()
+
+
 def _correct(survey: Survey, tg: Thermogram, readings: np.ndarray, eps_map: np.ndarray):
-    """Readings as exported → object temperature [°C]; returns (object_c, apparent_c, tau)."""
+    """Readings as exported → object temperature [°C].
+
+    Returns ``(object_c, apparent_c, tau, atmosphere_c, offset)`` with `apparent_c` the
+    blackbody-equivalent reading after the camera offset was removed.
+    """
     band = survey.camera.band_um
     ex = tg.export
     apparent = radiometry.blackbody_reading(readings, ex.emissivity, ex.reflected_c,
                                             ex.transmittance, ex.atmosphere_c, band_um=band)
+    apparent = np.asarray(apparent, dtype=np.float32)
     c = survey.conditions
     air = c.indoor_air_c if tg.side == "interior" else c.outdoor_air_c
     rh = (c.indoor_rh if tg.side == "interior" else c.outdoor_rh)
@@ -197,14 +257,18 @@ def _correct(survey: Survey, tg: Thermogram, readings: np.ndarray, eps_map: np.n
         tau = float(radiometry.atmospheric_transmittance(tg.distance_m, air, 0.6 if rh is None else rh,
                                                          band_um=band))
     atm = tg.atmosphere_c if tg.atmosphere_c is not None else air
+    offset = camera_offset(survey, tg, apparent, eps_map, tau, atm)
+    if offset.value_k:
+        apparent = apparent - np.float32(offset.value_k)
     obj = radiometry.object_temperature(apparent, eps_map, tg.reflected_c, tau, atm, band_um=band)
-    return np.asarray(obj, dtype=np.float32), np.asarray(apparent, dtype=np.float32), tau, atm
+    return np.asarray(obj, dtype=np.float32), apparent, tau, atm, offset
 
 
 def correct_thermogram(survey: Survey, tg: Thermogram, clock: StageClock = _NO_CLOCK):
     """Read one thermogram, build its geometry and correct it.
 
-    Returns ``(object_c, regions, h, outlines, eps_map, tau, apparent_c, atmosphere_c)``.
+    Returns ``(object_c, regions, h, outlines, eps_map, tau, apparent_c, atmosphere_c,
+    offset)``.
     """
     with clock.stage("load"):
         label = str(tg.file.relative_to(survey.root))
@@ -220,8 +284,8 @@ def correct_thermogram(survey: Survey, tg: Thermogram, clock: StageClock = _NO_C
         for name, reg in regions.items():
             eps_map[reg.mask] = emissivity_of(survey, tg, name)[0]
     with clock.stage("correct"):
-        obj, apparent, tau, atm = _correct(survey, tg, readings, eps_map)
-    return obj, regions, h, outlines, eps_map, tau, apparent, atm
+        obj, apparent, tau, atm, offset = _correct(survey, tg, readings, eps_map)
+    return obj, regions, h, outlines, eps_map, tau, apparent, atm, offset
 
 
 def _zone(reg) -> np.ndarray:
@@ -252,7 +316,7 @@ def _sky(survey: Survey, el):
 
 
 def assess_element(survey: Survey, tg: Thermogram, reg, obj, apparent, eps, tau, atm,
-                   limits, area_map, checks) -> tuple[ElementResult, np.ndarray]:
+                   limits, area_map, checks, offset: Offset = Offset()) -> tuple[ElementResult, np.ndarray]:
     """U, uncertainty, fRsi and verdict for one element in one thermogram; returns the
     result and the per-pixel heat-flux map [W/m²] (NaN outside the element)."""
     from . import uncertainty
@@ -281,12 +345,17 @@ def assess_element(survey: Survey, tg: Thermogram, reg, obj, apparent, eps, tau,
     u_whole = float(np.nansum(q[valid] * area_map[valid]) / (np.sum(area_map[valid]) * dt))
 
     cal = _calibration(tg, obj, apparent, reg)
+    accuracy = survey.camera.accuracy_k
+    if offset.u_k is not None:
+        # the offset is removed from the image: what is left of the camera's absolute error is
+        # the reference's uncertainty (as a rectangular half-width of equal variance)
+        accuracy = offset.u_k * math.sqrt(3.0)
     inputs = uncertainty.UInputs(
         apparent_c=float(np.mean(apparent[zone])), emissivity=eps,
         u_emissivity=tg.emissivity_uncertainty, reflected_c=tg.reflected_c,
         u_reflected_k=tg.reflected_uncertainty_k, t_ai_c=c.indoor_air_c,
         u_t_ai_k=c.air_uncertainty_k, t_ae_c=c.outdoor_air_c, u_t_ae_k=c.air_uncertainty_k,
-        camera_accuracy_k=survey.camera.accuracy_k,
+        camera_accuracy_k=accuracy,
         camera_relative_k=survey.camera.relative_accuracy_k, transmittance=tau,
         side=tg.side, h_c_model=model, direction=el.heat_flow,
         wind_m_s=c.wind_m_s, u_wind=c.wind_uncertainty_m_s, height_m=el.height_m,
@@ -304,12 +373,16 @@ def assess_element(survey: Survey, tg: Thermogram, reg, obj, apparent, eps, tau,
         u_note = ("not a valid result: the surface balance gives U ≤ 0 — the surface–air "
                   "difference is smaller than the temperature uncertainty; add a contact-probe "
                   "spot or survey on a colder night")
+    area = reg.area_m2 if el.area_m2 is None else el.area_m2
     res = ElementResult(
-        name=reg.name, kind=el.kind, thermogram=tg.id, side=tg.side, area_net_m2=reg.area_m2,
+        name=reg.name, kind=el.kind, thermogram=tg.id, side=tg.side, area_net_m2=area,
+        area_source="survey (measured)" if el.area_m2 is not None else f"outline ({tg.id})",
         emissivity=float(eps), u_w_m2k=est.u_w_m2k, u_std_w_m2k=est.u_std,
         u_low95_w_m2k=est.low95, u_high95_w_m2k=est.high95, u_whole_w_m2k=u_whole,
         u_method=f"{tg.side} surface", h_c_model=model, h_c_w_m2k=h_c,
-        calibrated=est.calibrated, calibration_note=est.calibration_note,
+        calibrated=est.calibrated or offset.u_k is not None,
+        calibration_note="; ".join(x for x in (offset.source, est.calibration_note if est.calibrated else "") if x)
+        or est.calibration_note,
         budget=[{"input": k, "share": float(v)} for k, v in est.budget.items()],
         u_valid=u_valid, u_note=u_note, u_specified_w_m2k=el.u_specified_w_m2k,
         checks=el_checks,
@@ -385,7 +458,7 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
     from . import defects as defects_mod
 
     c = survey.conditions
-    obj, regions, h, outlines, eps_map, tau, apparent, atm = correct_thermogram(survey, tg, clock)
+    obj, regions, h, outlines, eps_map, tau, apparent, atm, offset = correct_thermogram(survey, tg, clock)
     out = ThermogramResult(tg, "assessed", object_c=obj, regions=regions, outlines=outlines,
                            homography=h, transmittance=tau)
     checks = [validity.check_view_angle(tg.view_angle_deg)]
@@ -408,7 +481,7 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
         eps = emissivity_of(survey, tg, name)[0]
         with clock.stage("u_and_uncertainty"):
             res, q = assess_element(survey, tg, reg, obj, apparent, eps, tau, atm, limits,
-                                    area_map, checks)
+                                    area_map, checks, offset)
             q_map = np.where(reg.mask, q, q_map)
         with clock.stage("condensation"):
             if frsi is not None:
@@ -429,7 +502,27 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
             limits=lim, settings=settings, pair=pair, u_rel_std=u_rel, thermogram_id=tg.id)
     for res in out.elements:
         res.coverage_share = _coverage(res, regions[res.name], out.defects, area_map)
+        _exclude_warm_spots(res, regions[res.name], out.defects, q_map, area_map, dt)
     return out
+
+
+def _exclude_warm_spots(res: ElementResult, reg, defects, q_map, area_map, dt: float) -> None:
+    """Leave warm spots (likely reflections or heat sources) out of the whole-area U.
+
+    A warm reflection on a glossy patch reads as a negative heat flux over its area and
+    would pull the whole-area U down; it is not a property of the element.
+    """
+    warm = [d for d in defects if d.element == res.name and d.defect_class == "unexplained"
+            and any("warmer" in n for n in d.notes) and d.polygon is not None]
+    if not warm:
+        return
+    keep = reg.mask & np.isfinite(q_map)
+    for d in warm:
+        keep &= ~geometry.rasterise(d.polygon, reg.mask.shape)
+    if keep.any():
+        res.u_whole_w_m2k = float(np.sum(q_map[keep] * area_map[keep]) / (np.sum(area_map[keep]) * dt))
+        res.u_note = (res.u_note + "; " if res.u_note else "") + (
+            f"whole-area U leaves out {len(warm)} warm spot(s) (likely reflection or heat source)")
 
 
 def _hdd(survey: Survey) -> float:
@@ -454,7 +547,7 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
     rows = log[log["frame"].notna() & (log["frame"].astype(str).str.strip() != "")]
     if len(rows) < 3:
         raise SurveyError("expected at least 3 rows with a frame", label, "frame")
-    base_obj, regions, _, outlines, *_ = correct_thermogram(survey, tg)
+    base_obj, regions, _, outlines, _, _, _, _, offset = correct_thermogram(survey, tg)
     if sr.element not in regions:
         raise SurveyError(f"element '{sr.element}' has no outline in thermogram '{tg.id}'",
                           survey.file.name, f"series[{sr.id}].element")
@@ -499,6 +592,7 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
                                   f"{frame_shape['shape']}", flabel)
             app = radiometry.blackbody_reading(readings, ex.emissivity, ex.reflected_c,
                                                ex.transmittance, ex.atmosphere_c, band_um=band)
+            app = np.asarray(app) - offset.value_k  # same camera, same night (assumption)
             if progress:
                 progress("series")
             yield np.asarray(radiometry.object_temperature(app, eps, refl[i], tau, None, band_um=band))
@@ -510,6 +604,8 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
         frames(), mask, rows["indoor_air_c"].to_numpy(float), rows["outdoor_air_c"].to_numpy(float),
         refl, eps, model, rows["hours"].to_numpy(float), direction=el.heat_flow, height_m=el.height_m)
     return {"id": sr.id, "element": sr.element, "thermogram": tg.id, "u_w_m2k": res.u_w_m2k,
+            "camera_offset_k": offset.value_k, "calibration_note": offset.source or
+            "no camera offset removed: frames carry the camera's absolute accuracy",
             "duration_h": res.duration_h, "n_frames": res.n_samples, "converged": res.converged,
             "u_running_w_m2k": [float(x) for x in res.u_running_w_m2k],
             "times_h": [float(x) for x in res.times_h],

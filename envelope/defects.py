@@ -19,9 +19,10 @@ this module turns the described regions into `Defect` records:
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
+import shapely
 from scipy import ndimage
 
 from envelope.anomalies import (
@@ -127,6 +128,7 @@ class Defect:
     pressure_difference_pa: float | None = None
     cooling_k: float | None = None
     score_text: str = ""
+    count: int = 1
 
 
 def _parallel(region: Region, direction: str, tol_deg: float = 20.0) -> bool:
@@ -511,6 +513,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             pair_notes.append("image pair on an exterior view: air leakage not assessed")
     elements = list(regions.values())
     defects: list[Defect] = []
+    group_of: dict[int, tuple[str, int]] = {}  # id(defect) -> (element, repetition group)
     for el in elements:
         if el.kind.lower() not in settings.kinds:
             continue
@@ -587,7 +590,64 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
                 pressure_difference_pa=dp, cooling_k=None if change is None
                 else change.cooling_k,
             ))
-    return rank_defects(defects)
+            if cls == "repeating thermal bridge" and r.repetition is not None:
+                group_of[id(defects[-1])] = (el.name, r.repetition)
+    return rank_defects(merge_repeating(defects, group_of, delta_t_k))
+
+
+def merge_repeating(defects: list, group_of: dict, delta_t_k: float) -> list:
+    """One defect per repetition group (studs, rafters, ties), as a surveyor lists them.
+
+    The members' extra heat flows add up; psi is the total extra heat flow over the total
+    length, ``sum(Q_i) / (delta_T sum(L_i))`` (the members' mean psi weighted by length);
+    the risk is the worst member's; the polygon is the union of the members'.
+    """
+    groups: dict[tuple, list] = {}
+    for d in defects:
+        key = group_of.get(id(d))
+        if key is not None:
+            groups.setdefault(key, []).append(d)
+    merged, done = [], set()
+    for d in defects:
+        key = group_of.get(id(d))
+        if key is None or len(groups[key]) < 2:
+            merged.append(d)
+            continue
+        if key in done:
+            continue
+        done.add(key)
+        ms = groups[key]
+        extra = sum(m.extra_w for m in ms)
+        length = sum(m.length_m for m in ms)
+        area = sum(m.area_m2 for m in ms)
+        worst = max(ms, key=lambda m: (m.score_risk, -m.frsi_p05))
+        polys = [m.polygon for m in ms if m.polygon is not None]
+        poly = shapely.union_all(polys) if polys else None
+        x0 = min(m.bbox_px[0] for m in ms)
+        y0 = min(m.bbox_px[1] for m in ms)
+        x1 = max(m.bbox_px[2] for m in ms)
+        y1 = max(m.bbox_px[3] for m in ms)
+        cx = sum(m.centroid_px[0] * m.area_m2 for m in ms) / area
+        cy = sum(m.centroid_px[1] * m.area_m2 for m in ms) / area
+        psis = [m.psi_w_mk for m in ms if m.psi_w_mk is not None]
+        spacing = ms[0].spacing_m
+        reasons = [f"{len(ms)} parallel elongated regions at a regular spacing of "
+                   f"{spacing:.2f} m (e.g. studs, rafters or ties)"] + [
+            r for r in ms[0].reasons if not r.startswith("one of")]
+        notes = list(dict.fromkeys(n for m in ms for n in m.notes))
+        if psis:
+            notes.append(f"psi of the members {min(psis):.3f}–{max(psis):.3f} W/(m·K)")
+        merged.append(replace(
+            worst, area_m2=area, length_m=length, extra_w=extra,
+            extra_w_std=math.sqrt(sum(m.extra_w_std**2 for m in ms)) if all(
+                math.isfinite(m.extra_w_std) for m in ms) else math.nan,
+            psi_w_mk=extra / (delta_t_k * length) if length > 0 else None, chi_w_k=None,
+            incidence_factor=sum(m.incidence_factor * m.area_m2 for m in ms) / area,
+            kwh_per_year=sum(m.kwh_per_year for m in ms),
+            frsi_min=min(m.frsi_min for m in ms), frsi_p05=min(m.frsi_p05 for m in ms),
+            centroid_px=(cx, cy), bbox_px=(x0, y0, x1, y1), polygon=poly, reasons=reasons,
+            notes=notes, count=len(ms)))
+    return merged
 
 
 def _num(x):
@@ -604,10 +664,11 @@ def defect_to_dict(d: Defect) -> dict:
     region is in several pieces) as ``[[x, y], ...]`` in pixel coordinates.
     """
     poly = d.polygon
-    outline = []
+    outline, parts = [], []
     if poly is not None and not poly.is_empty:
-        part = max(getattr(poly, "geoms", [poly]), key=lambda g: g.area)
-        outline = [[float(x), float(y)] for x, y in part.exterior.coords]
+        pieces = sorted(getattr(poly, "geoms", [poly]), key=lambda g: -g.area)
+        parts = [[[float(x), float(y)] for x, y in g.exterior.coords] for g in pieces]
+        outline = parts[0]
     return {
         "id": d.id, "thermogram": d.thermogram, "element": d.element, "rank": d.rank,
         "class": d.defect_class,
@@ -617,7 +678,7 @@ def defect_to_dict(d: Defect) -> dict:
         "orientation_deg": _num(d.orientation_deg), "elongation": _num(d.elongation),
         "solidity": _num(d.solidity), "junction": d.junction,
         "junction_element": d.junction_element, "edge_distance_m": _num(d.edge_distance_m),
-        "spacing_m": _num(d.spacing_m), "extra_w": _num(d.extra_w),
+        "spacing_m": _num(d.spacing_m), "count": int(d.count), "extra_w": _num(d.extra_w),
         "extra_w_std": _num(d.extra_w_std), "psi_w_mk": _num(d.psi_w_mk),
         "chi_w_k": _num(d.chi_w_k), "incidence_factor": _num(d.incidence_factor),
         "band_m": _num(d.band_m), "kwh_per_year": _num(d.kwh_per_year),
@@ -627,5 +688,6 @@ def defect_to_dict(d: Defect) -> dict:
         "pressure_difference_pa": _num(d.pressure_difference_pa),
         "cooling_k": _num(d.cooling_k),
         "centroid_px": [float(v) for v in d.centroid_px],
+        "outline_parts_px": parts,
         "bbox_px": [float(v) for v in d.bbox_px], "outline_px": outline,
     }

@@ -83,6 +83,8 @@ class Camera:
     accuracy_k: float = 2.0
     relative_accuracy_k: float = 0.2
     noise_k: float = 0.05
+    offset_k: float | None = None
+    offset_uncertainty_k: float = 0.3
 
 
 @dataclass(frozen=True)
@@ -137,6 +139,7 @@ class Element:
     heat_flow: str = "horizontal"
     height_m: float = 2.5
     tilt_deg: float = 90.0
+    area_m2: float | None = None
 
 
 @dataclass(frozen=True)
@@ -469,7 +472,8 @@ def load_survey(folder: str | Path) -> Survey:
         "outdoor_history_c", "indoor_history_c", "history_interval_h",
     )))
     camera = _camera(top.sub("camera", (
-        "label", "band_um", "accuracy_k", "relative_accuracy_k", "noise_k"), {}))
+        "label", "band_um", "accuracy_k", "relative_accuracy_k", "noise_k", "offset_k",
+        "offset_uncertainty_k"), {}))
     climate = _climate(top.sub("climate", (
         "heating_degree_days_kd", "design_indoor_c", "design_outdoor_c", "monthly_outdoor_c",
         "monthly_outdoor_rh", "monthly_indoor_c", "indoor_humidity", "humidity_class",
@@ -541,7 +545,8 @@ def _camera(c: _Table) -> Camera:
     if band[0] >= band[1]:
         raise c.err("band_um", f"expected [shortest, longest] wavelength in µm, got {list(band)}")
     return Camera(c.str("label", ""), band, c.num("accuracy_k", 2.0, 0, 10, "K"),
-                  c.num("relative_accuracy_k", 0.2, 0, 5, "K"), c.num("noise_k", 0.05, 0, 2, "K"))
+                  c.num("relative_accuracy_k", 0.2, 0, 5, "K"), c.num("noise_k", 0.05, 0, 2, "K"),
+                  c.num("offset_k", None, -10, 10, "K"), c.num("offset_uncertainty_k", 0.3, 0, 5, "K"))
 
 
 def _climate(c: _Table) -> Climate:
@@ -581,7 +586,7 @@ def _elements(top: _Table, fname: str) -> dict:
             t.num("u_specified_w_m2k", None, 0, 10, "W/m2K", lo_open=True), t.str("host", None),
             t.str("material", None), _emissivity(t, "emissivity", None),
             t.str("heat_flow", "horizontal", HEAT_FLOW), t.num("height_m", 2.5, 0, 50, "m", lo_open=True),
-            t.num("tilt_deg", 90.0, 0, 180, "deg"),
+            t.num("tilt_deg", 90.0, 0, 180, "deg"), t.num("area_m2", None, 0, 1e5, "m2", lo_open=True),
         )
     for t, e in zip(tables, elements.values(), strict=True):
         if e.host is not None:

@@ -491,9 +491,9 @@ def element_truth(name, spec, specified):
     out = {"kind": spec["kind"], "u_true_w_m2k": _r(u), "thermogram": spec["view"].id,
            "u_specified_w_m2k": specified.get(name)}
     if poly is None:
-        out.update(net_area_m2=None, u_whole_w_m2k=_r(u),
+        out.update(net_area_m2=MEASURED_AREA_M2.get(name), u_whole_w_m2k=_r(u),
                    note="seen at a grazing angle below the wall; its area is not on the view's"
-                        " plane and is not measured from this view")
+                        " plane, so the survey gives the taped area (area_m2)")
         return out
     extra = sum((ui - u) * p.intersection(poly).area for p, ui in spec["u_map"])
     out.update(net_area_m2=_r(poly.area), u_whole_w_m2k=_r(u + extra / poly.area))
@@ -638,6 +638,7 @@ ELEMENTS = {  # name: (kind, material, heat_flow, height_m, tilt_deg, host)
     "study-south-wall": ("wall", "painted-plaster", "horizontal", 2.4, 90.0, None),
 }
 SPECIFIED = {"bedroom-east-wall": 0.30, "gable-west-wall": 0.35}
+MEASURED_AREA_M2 = {"lounge-floor": 14.4}  # taped on site: the floor is seen at a grazing angle
 MEASURES = [
     dict(name="Internal insulation, kitchen wall", kind="add_layer",
          elements=["kitchen-south-wall"], thickness_m=0.06, conductivity_w_mk=0.022, cost=2900.0),
@@ -681,7 +682,8 @@ def survey_toml(views, probes, tapes, history):
         _table(lines, "[[elements]]", {"name": name, "kind": kind, "host": host,
                                        "u_specified_w_m2k": SPECIFIED.get(name),
                                        "material": material, "heat_flow": flow,
-                                       "height_m": height, "tilt_deg": tilt})
+                                       "height_m": height, "tilt_deg": tilt,
+                                       "area_m2": MEASURED_AREA_M2.get(name)})
     for v in views:
         air, _ = air_and_rh(v)
         folder = "series/frames" if v.shape == SERIES_SHAPE else "thermograms"
@@ -689,7 +691,8 @@ def survey_toml(views, probes, tapes, history):
         _table(lines, "[[thermograms]]", {
             "id": v.id, "file": f"{folder}/{name}.tif", "outlines": f"outlines/{v.id}.geojson",
             "side": v.side, "reflected_c": v.reflected_c,
-            "reflected_uncertainty_k": 1.0 if v.side == "interior" else 2.0,
+            # interior: crumpled-foil reflector read three times (±0.5 K); exterior: the sky
+            "reflected_uncertainty_k": 0.5 if v.side == "interior" else 2.0,
             "emissivity": 0.93, "emissivity_uncertainty": 0.02, "distance_m": v.distance_m,
             "atmosphere_c": air, "view_angle_deg": float(round(v.view_angle_deg)),
             "hours_since_sun": v.hours_since_sun})
