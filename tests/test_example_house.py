@@ -121,7 +121,9 @@ def test_net_areas_from_the_outlines_match_the_truth():
                                            spec, shape, h)
         for name, reg in regions.items():
             area = truth["elements"][name]["net_area_m2"]
-            if area is not None:  # None: a floor seen at a grazing angle, not on this plane
+            # a floor seen at a grazing angle is not on this plane: the survey gives its
+            # taped area instead (elements.area_m2), which the outline cannot reproduce
+            if area is not None and survey.elements[name].area_m2 is None:
                 # reference pixels are rounded to 0.01 px: areas agree to about 0.1 %
                 assert reg.area_m2 == pytest.approx(area, rel=2e-3), (tg.id, name)
 
