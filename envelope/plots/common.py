@@ -43,6 +43,7 @@ def image_axes(image, *, cmap=TEMPERATURE_CMAP, label="Surface temperature [°C]
         vmin = lo if vmin is None else vmin
         vmax = hi if vmax is None else vmax
     fig, ax = plt.subplots(figsize=figsize, dpi=DPI)
+    fig.subplots_adjust(left=0.09, right=0.88, bottom=0.09, top=0.93)
     im = ax.imshow(image, cmap=cmap, vmin=vmin, vmax=vmax, interpolation="nearest")
     cbar = fig.colorbar(im, ax=ax, fraction=0.046, pad=0.03)
     cbar.set_label(label)
@@ -57,6 +58,8 @@ def save(fig, path: str | Path) -> Path:
     """Save `fig` as PNG at `path` (parents created) and close it."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
-    fig.savefig(path, dpi=DPI, bbox_inches="tight", metadata={"Software": None})
+    # one draw (no bbox_inches="tight", which draws twice) and light PNG compression: the
+    # figures of a survey are written in a few seconds
+    fig.savefig(path, dpi=DPI, metadata={"Software": None}, pil_kwargs={"compress_level": 2})
     plt.close(fig)
     return path

@@ -75,7 +75,12 @@ def defects_figure(image_c, defects, path: str | Path, regions=None,
             ax.plot(ring[:, 0], ring[:, 1], color=colour, lw=1.3,
                     label=None if label in seen else label)
             seen.add(label)
-        x0, y0 = d.bbox_px[0], d.bbox_px[1]
+        rings = _rings(d.polygon)
+        if rings:  # number above the top-left of its largest part (a group: its first)
+            top = min(rings, key=lambda r: (r[:, 0].min(), r[:, 1].min()))
+            x0, y0 = float(top[:, 0].min()), float(top[:, 1].min())
+        else:
+            x0, y0 = d.bbox_px[0], d.bbox_px[1]
         ax.text(x0, max(y0 - 2.0, 0.0), f"{d.rank}", color="black", fontsize=8,
                 fontweight="bold", va="bottom", ha="left",
                 bbox={"boxstyle": "round,pad=0.15", "fc": colour, "ec": "none", "alpha": 0.85})

@@ -47,7 +47,7 @@ def savings_chart(measures: Sequence, path: str | Path, currency: str = "") -> P
     rows = [_as_mapping(m) for m in measures]
     rows = sorted(rows, key=lambda m: _num(m.get("kwh_saved_per_year")))
     n = max(len(rows), 1)
-    fig, ax = plt.subplots(figsize=(7.5, 1.2 + 0.55 * n), dpi=DPI)
+    fig, ax = plt.subplots(figsize=(7.5, 1.2 + 0.55 * n), dpi=DPI, layout="tight")
     if not rows:
         ax.text(0.5, 0.5, "no measures proposed", ha="center", va="center",
                 transform=ax.transAxes)
@@ -108,7 +108,7 @@ def heat_loss_chart(heat_loss_before, heat_loss_after, path: str | Path) -> Path
         states.append(("after all measures", _parts(_as_mapping(heat_loss_after))))
     names = list(dict.fromkeys(k for _, p in states for k in p))
     colours = plt.get_cmap("viridis")(np.linspace(0.05, 0.95, len(names)))
-    fig, ax = plt.subplots(figsize=(7.5, 1.8 + 0.9 * len(states)), dpi=DPI)
+    fig, ax = plt.subplots(figsize=(7.5, 1.8 + 0.9 * len(states)), dpi=DPI, layout="tight")
     y = np.arange(len(states))[::-1]
     left = np.zeros(len(states))
     for name, colour in zip(names, colours, strict=True):
