@@ -1,0 +1,121 @@
+"""The README's main command on example_house/, checked against the demo's truth.json.
+
+truth.json is written by example_house/generate.py from the project's own forward model:
+these checks show that the tool recovers what was planted, within the uncertainty the tool
+itself reports (consistency, not an outside reference).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from typer.testing import CliRunner
+
+from envelope.cli import app
+
+HOUSE = Path(__file__).resolve().parents[1] / "example_house"
+OUTPUTS = ("results.json", "elements.csv", "defects.csv", "measures.csv", "report.html",
+           "check.html", "summary.html", "summary.pdf")
+
+
+@pytest.fixture(scope="module")
+def run(tmp_path_factory):
+    out = tmp_path_factory.mktemp("demo") / "out"
+    res = CliRunner().invoke(app, ["assess", str(HOUSE), "--out", str(out), "--quiet",
+                                   "--draws", "5000"])
+    assert res.exit_code == 0, res.output
+    results = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    truth = json.loads((HOUSE / "truth.json").read_text(encoding="utf-8"))
+    return out, results, truth
+
+
+def test_every_output_and_figure_written(run):
+    out, r, _ = run
+    for name in OUTPUTS:
+        assert (out / name).stat().st_size > 0, name
+    for t in r["thermograms"]:
+        assert t["status"] in ("assessed", "paired"), t
+        for fig in t["figures"].values():
+            assert (out / fig).is_file(), fig
+    assert r["failures"] == []
+
+
+def test_true_u_inside_the_reported_interval(run):
+    _, r, truth = run
+    checked = 0
+    for e in r["elements"]:
+        tr = truth["elements"][e["name"]]
+        if not e["u_valid"]:
+            continue
+        assert e["u_low95_w_m2k"] <= tr["u_true_w_m2k"] <= e["u_high95_w_m2k"], (e["name"], e)
+        checked += 1
+    assert checked >= 10
+
+
+def test_night_sky_view_is_flagged_not_reported(run):
+    _, r, _ = run
+    garden = next(e for e in r["elements"] if e["name"] == "garden-room-east-wall")
+    assert garden["u_valid"] is False and "night-sky" in garden["u_note"]
+    assert any(c["name"] == "night_sky" and c["status"] == "fail" for c in garden["checks"])
+    assert "garden-room-east-wall" not in {x["name"] for x in r["heat_loss"]["by_element"]}
+
+
+def test_areas_match_the_truth(run):
+    _, r, truth = run
+    for e in r["elements"]:
+        area = truth["elements"][e["name"]]["net_area_m2"]
+        if area is not None:
+            assert e["area_net_m2"] == pytest.approx(area, rel=5e-3), e["name"]
+
+
+def _inside(c, bbox, pad=10.0):
+    return bbox[0] - pad <= c[0] <= bbox[2] + pad and bbox[1] - pad <= c[1] <= bbox[3] + pad
+
+
+def test_planted_defects_found_and_classed(run):
+    _, r, truth = run
+    found = r["defects"]
+    right = 0
+    for planted in truth["defects"]:
+        tid = planted["thermogram"] if planted["class"] != "air leakage" else "dining-west"
+        hits = [d for d in found if d["thermogram"] == tid and d["element"] == planted["element"]
+                and _inside(d["centroid_px"], planted["bbox_px"])]
+        assert hits, planted["id"]
+        right += any(d["class"] == planted["class"] for d in hits)
+    assert right >= 4  # the issue asks for at least 4 of 5 classes right
+    # the glossy splashback mirrors a radiator: not a wall defect, or "unexplained" with a note
+    refl = truth["reflection"]
+    for d in found:
+        if d["thermogram"] == refl["thermogram"] and _inside(d["centroid_px"], refl["bbox_px"], 0):
+            assert d["class"] == "unexplained" and any("reflection" in n for n in d["notes"])
+
+
+def test_junction_psi_within_its_uncertainty(run):
+    _, r, truth = run
+    planted = next(d for d in truth["defects"] if d["class"] == "linear thermal bridge")
+    d = next(x for x in r["defects"] if x["class"] == "linear thermal bridge"
+             and x["element"] == planted["element"])
+    psi_true = planted["psi_w_mk"]
+    u_psi = d["psi_w_mk"] * d["extra_w_std"] / d["extra_w"]
+    assert abs(d["psi_w_mk"] - psi_true) <= max(1.96 * u_psi, 0.05 * psi_true), (d, psi_true)
+
+
+def test_series_against_the_average_method_truth(run):
+    _, r, truth = run
+    (s,) = r["series"]
+    expected = truth["series"]["average_method_u_w_m2k"]
+    # the series carries the probe-calibrated camera; 10 % is the spread of a ±0.2 K
+    # relative accuracy on a ~1 K surface–air difference (common practice for a check)
+    assert s["u_w_m2k"] == pytest.approx(expected, rel=0.10)
+    assert any(c["name"].startswith("iso9869") and c["status"] == "fail" for c in s["checks"])
+
+
+def test_builder_verdicts_and_retrofit_case(run):
+    _, r, _ = run
+    specified = [e for e in r["elements"] if e["u_specified_w_m2k"] is not None]
+    assert specified and all(e["verdict"] in ("pass", "fail", "inconclusive") for e in specified)
+    assert r["package"]["kwh_saved_per_year"] > 0
+    singles = sum(m["kwh_saved_per_year"] for m in r["measures"])
+    assert r["package"]["kwh_saved_per_year"] <= singles * (1 + 1e-5)  # results keep 6 digits
