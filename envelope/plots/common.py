@@ -20,15 +20,25 @@ FACTOR_CMAP = "viridis"
 DPI = 110
 
 
-def robust_limits(values, lo_pct: float = 1.0, hi_pct: float = 99.0) -> tuple[float, float]:
-    """Colour limits from percentiles of the finite values (robust to dead pixels)."""
+def robust_limits(values, lo_pct: float = 1.0, hi_pct: float = 99.0,
+                  min_span: float = 2.0) -> tuple[float, float]:
+    """Colour limits that show the surfaces, not the outliers.
+
+    Percentiles of the finite values, pulled in to Tukey's far-out fences (quartiles ∓ 3 IQR;
+    Tukey, Exploratory Data Analysis, 1977) so that a small very warm patch (a reflection, a
+    radiator) or dead pixels do not squash the walls into one colour; at least `min_span`
+    wide. Clipped values show in the end colours of the map.
+    """
     v = np.asarray(values, dtype=float)
     v = v[np.isfinite(v)]
     if v.size == 0:
         return 0.0, 1.0
-    lo, hi = np.percentile(v, [lo_pct, hi_pct])
-    if hi <= lo:
-        hi = lo + 1.0
+    lo, q1, q3, hi = np.percentile(v, [lo_pct, 25.0, 75.0, hi_pct])
+    iqr = q3 - q1
+    lo, hi = max(lo, q1 - 3.0 * iqr), min(hi, q3 + 3.0 * iqr)
+    if hi - lo < min_span:
+        mid = 0.5 * (lo + hi)
+        lo, hi = mid - 0.5 * min_span, mid + 0.5 * min_span
     return float(lo), float(hi)
 
 

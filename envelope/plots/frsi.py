@@ -65,7 +65,7 @@ def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None
     f = np.asarray(frsi_map, dtype=float)
     if f.ndim != 2:
         raise ValueError(f"frsi_map must be a 2-D image; got shape {f.shape}")
-    lo, hi = robust_limits(f)
+    lo, hi = robust_limits(f, min_span=0.0)
     vmin, vmax = min(0.0, lo), max(1.0, hi)
     fig, ax = image_axes(f, cmap=FACTOR_CMAP, label="Temperature factor fRsi [-]",
                          title=title, vmin=vmin, vmax=vmax)
