@@ -628,8 +628,9 @@ def _best_elements(results: list[ElementResult]) -> dict[str, ElementResult]:
 
 def _measures(survey: Survey, defects: list) -> list:
     out = []
-    default_classes = {"seal_leak": ("air leakage",), "fix_bridge": ("linear thermal bridge",
-                                                                     "repeating thermal bridge")}
+    default_classes = {"seal_leak": ("air leakage",),
+                       "fix_bridge": ("linear thermal bridge", "repeating thermal bridge"),
+                       "repair_defect": ("missing insulation",)}
     for m in survey.measures:
         ids: tuple = ()
         if m.kind in default_classes:

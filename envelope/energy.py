@@ -32,7 +32,7 @@ DEFAULT_LEAK_FRACTION_REMOVED = 0.8
 An assumption (common practice guess): sealing reaches most, not all, of a leakage path.
 """
 
-MEASURE_KINDS = ("add_layer", "replace_glazing", "seal_leak", "fix_bridge")
+MEASURE_KINDS = ("add_layer", "replace_glazing", "seal_leak", "fix_bridge", "repair_defect")
 
 
 # --------------------------------------------------------------------------------------
@@ -427,15 +427,23 @@ def _plan_fix_bridge(m, i, plan, els, dfs):
         plan["df"][n][0] = float(m.new_psi_w_mk) * float(length)
 
 
+def _plan_repair_defect(m, i, plan, els, dfs):
+    """Make good a defect (refit a missing batt, close a gap): its extra loss goes."""
+    for n in _targets(m.defects, dfs, "defects", i):
+        plan["df"][n][0] = 0.0
+
+
 _PLANNERS = {
     "add_layer": _plan_add_layer,
     "replace_glazing": _plan_replace_glazing,
     "seal_leak": _plan_seal_leak,
     "fix_bridge": _plan_fix_bridge,
+    "repair_defect": _plan_repair_defect,
 }
 # Replacements (set values) are applied before series layers / sealing factors, whatever
 # the order of the measures, so that e.g. new glazing plus secondary glazing combine.
-_ORDER = {"replace_glazing": 0, "fix_bridge": 0, "add_layer": 1, "seal_leak": 1}
+_ORDER = {"replace_glazing": 0, "fix_bridge": 0, "repair_defect": 0, "add_layer": 1,
+          "seal_leak": 1}
 
 
 def _make_plan(measures, els, dfs):

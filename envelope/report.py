@@ -201,18 +201,24 @@ def thermogram_of(results: Mapping, target: str) -> str | None:
 
 
 def top_fixes(results: Mapping, n: int = 3) -> list[dict]:
-    """The `n` most valuable fixes: measures by yearly money (then energy) saved.
+    """The `n` most valuable fixes for the homeowner.
 
-    Each item: ``{"measure", "thermogram", "defects"}``. Without measures, the top-ranked
-    defects stand in (``measure`` None).
+    Order: measures that remove a mould or condensation risk first, then the best value for
+    money (shortest simple payback), then the largest yearly saving. Each item:
+    ``{"measure", "thermogram", "defects"}``. Without measures, the top-ranked defects stand
+    in (``measure`` None).
     """
-    def value(m):
-        money = m.get("money_per_year")
-        kwh = m.get("kwh_saved_per_year")
-        return (money if is_num(money) else -math.inf, kwh if is_num(kwh) else -math.inf)
-
-    measures = sorted(results.get("measures") or [], key=value, reverse=True)
     defects = {str(d.get("id")): d for d in results.get("defects") or []}
+
+    def key(m):
+        targets = [str(t) for t in m.get("targets") or []]
+        risky = any(defects.get(t, {}).get("risk") in ("mould", "condensation") for t in targets)
+        pay = m.get("payback_years")
+        money = m.get("money_per_year")
+        return (not risky, pay if is_num(pay) else math.inf,
+                -(money if is_num(money) else -math.inf))
+
+    measures = sorted(results.get("measures") or [], key=key)
     out = []
     for m in measures[:n]:
         targets = [str(t) for t in m.get("targets") or []]

@@ -455,29 +455,69 @@ def fix_text(item: Mapping, currency: str) -> dict[str, str]:
             f"(units of energy on your bill) a year, worth {about_range(lo, hi, currency)} a "
             f"year. Estimated cost {fmt(m.get('cost'), 0, currency)}")
     pay = m.get("payback_years")
-    body += (f"; it pays for itself in about {pay:.0f} years." if is_num(pay)
-             else "; it does not pay back on energy alone.")
+    if is_num(pay) and pay > 30:
+        body += (f"; on energy savings alone it would take about {pay:.0f} years to pay for "
+                 "itself, so it is best done for comfort or together with other work.")
+    elif is_num(pay):
+        body += f"; it pays for itself in about {pay:.0f} years."
+    else:
+        body += "; it does not pay back on energy alone."
     if where:
         body += f" Where: {where}."
     return {"title": str(m.get("name") or "measure"), "body": body}
 
 
+CLASS_WORDS = {
+    "missing insulation": "a patch where insulation is missing or has slipped",
+    "linear thermal bridge": "a cold line along a junction (a thermal bridge)",
+    "repeating thermal bridge": "framing (studs or rafters) showing through as cold lines",
+    "air leakage": "a draught (cold air leaking in)",
+    "unexplained": "a spot that needs a closer look",
+}
+
+
 def found_lines(results: Mapping) -> list[str]:
-    """Plain sentences of what was found (shared with the PDF)."""
+    """Plain sentences of what was found (shared with the PDF): the yearly loss, where the
+    heat goes, the leakiest surfaces, risks, problem spots, and what could not be measured."""
     lines = []
     h = results.get("heat_loss") or {}
     if is_num(h.get("annual_kwh")):
         lo = h["annual_kwh"] - 1.96 * (h.get("annual_kwh_std") or 0.0)
         hi = h["annual_kwh"] + 1.96 * (h.get("annual_kwh_std") or 0.0)
-        lines.append(f"The surveyed walls, windows and roofs lose {about_range(lo, hi, 'kWh')}"
-                     " (kilowatt-hours, the units on your energy bill) of heat a year (before your boiler's or heat pump's efficiency).")
-    for e in results.get("elements") or []:
-        if is_num(e.get("u_w_m2k")):
-            risk = RISK_WORDS.get(str(e.get("risk")), "risk not assessed")
-            lines.append(f"{e.get('name')}: {U_WORDS} about {e['u_w_m2k']:.2f} watts per "
-                         f"square metre per degree; {risk}.")
-    n = len(results.get("defects") or [])
-    lines.append(f"{n} problem spot(s) were found and ranked, the riskiest first.")
+        lines.append(f"The surveyed walls, windows, floors and ceilings lose "
+                     f"{about_range(max(lo, 0.0), hi, 'kWh')} (kilowatt-hours, the units on your "
+                     "energy bill) of heat a year, before your boiler's or heat pump's efficiency.")
+    if is_num(h.get("h_w_k")) and h["h_w_k"] > 0 and is_num(h.get("h_defects_w_k")):
+        share = h["h_defects_w_k"] / h["h_w_k"]
+        lines.append(f"About {100 * share:.0f} in every 100 units of that heat escape through the "
+                     "problem spots below; the rest goes through the surfaces as built.")
+    valid = [e for e in results.get("elements") or []
+             if is_num(e.get("u_w_m2k")) and e.get("u_valid", True)]
+    worst = sorted(valid, key=lambda e: -e["u_w_m2k"])[:3]
+    if worst:
+        lines.append(
+            f"A {U_WORDS} tells how leaky a surface is: lower is better. The leakiest surfaces "
+            "measured: " + "; ".join(f"{e.get('name')} about {e['u_w_m2k']:.1f} watts per "
+                                     "square metre per degree" for e in worst) + ".")
+    risky = [e for e in valid if e.get("risk") in ("mould", "condensation")]
+    for e in risky:
+        lines.append(f"{e.get('name')}: {RISK_WORDS.get(str(e.get('risk')), '')} in a cold "
+                     "spell (see below).")
+    defects = results.get("defects") or []
+    if defects:
+        counts: dict[str, int] = {}
+        for d in defects:
+            c = str(d.get("class") or "unexplained")
+            counts[c] = counts.get(c, 0) + 1
+        words = [f"{n} × {CLASS_WORDS.get(c, c)}" for c, n in counts.items()]
+        lines.append(f"{len(defects)} problem spot(s), the riskiest first in the full report: "
+                     + "; ".join(words) + ".")
+    else:
+        lines.append("No problem spots were found.")
+    bad = [e for e in results.get("elements") or [] if e.get("u_valid") is False]
+    for e in bad:
+        lines.append(f"{e.get('name')} could not be measured reliably on this night; it is "
+                     "left out of the totals.")
     return lines
 
 

@@ -28,7 +28,7 @@ SURVEY_FILE = "survey.toml"
 ELEMENT_KINDS = ("wall", "window", "door", "roof", "floor", "ceiling")
 SIDES = ("interior", "exterior")
 HEAT_FLOW = ("horizontal", "upward", "downward")
-MEASURE_KINDS = ("add_layer", "replace_glazing", "seal_leak", "fix_bridge")
+MEASURE_KINDS = ("add_layer", "replace_glazing", "seal_leak", "fix_bridge", "repair_defect")
 HUMIDITY_MODELS = ("measured", "humidity_class", "moisture_production")
 INTERIOR_CONVECTION = ("iso6946", "churchill_chu")
 EXTERIOR_CONVECTION = ("iso6946_wind", "mcadams", "watmuff")
@@ -685,7 +685,7 @@ def _measure(t: _Table, elements: dict) -> Measure:
         t.num("new_psi_w_mk", None, 0, 5, "W/mK"), t.fraction("leak_fraction_removed", 0.8),
     )
     need = {"add_layer": ("thickness_m", "conductivity_w_mk"), "replace_glazing": ("new_u_w_m2k",),
-            "fix_bridge": ("new_psi_w_mk",), "seal_leak": ()}[kind]
+            "fix_bridge": ("new_psi_w_mk",), "seal_leak": (), "repair_defect": ()}[kind]
     for key in need:
         if getattr(m, key) is None:
             raise t.err(key, f"missing (required for kind '{kind}')")

@@ -648,6 +648,10 @@ MEASURES = [
          elements=["lounge-south-wall"], new_psi_w_mk=0.05, cost=650.0),
     dict(name="Top up the loft insulation over the landing", kind="add_layer",
          elements=["landing-ceiling"], thickness_m=0.2, conductivity_w_mk=0.04, cost=480.0),
+    dict(name="Refit the missing batt in the bedroom wall", kind="repair_defect",
+         elements=["bedroom-east-wall"], defect_classes=["missing insulation"], cost=420.0),
+    dict(name="Close the gap in the loft insulation", kind="repair_defect",
+         elements=["landing-ceiling"], defect_classes=["missing insulation"], cost=90.0),
 ]
 
 

@@ -115,15 +115,16 @@ def test_builder_sheet(written):
 def test_homeowner_summary_plain_words_and_ranges(written):
     results, _, paths = written
     page = text_of(paths["summary_html"])
-    # most valuable first: money/yr 47.5 > 14.25 > 12.25 (fixture)
+    # fixture: fixes that remove a risk first (seal window frame: condensation, payback
+    # 8.4 yr; floor junction: mould, 53.1 yr), then best value (extension patch 22.5 yr
+    # before the north wall 40 yr)
     order = [f["measure"]["name"] for f in top_fixes(results)]
-    assert order == ["insulate north wall (internal lining)", "seal window frame",
-                     "insulate floor junction"]
-    assert page.index("insulate north wall") < page.index("seal window frame")
-    # ranges: kWh 150..235 -> 2 significant figures "150 to 240"; price 47.5/190 = 0.25
-    # EUR/kWh -> money 37.5..58.75 -> "38 to 59"
-    assert "about 150 to 240 kWh" in page
-    assert "about 38 to 59 EUR" in page
+    assert order == ["seal window frame", "insulate floor junction", "top up extension patch"]
+    assert page.index("seal window frame") < page.index("insulate floor junction")
+    # ranges: seal kWh 30..84 -> 2 significant figures "30 to 84"; price 0.25 EUR/kWh
+    # (47.5/190 in the fixture) -> money 7.5..21, shown as whole units: "8 to 21"
+    assert "about 30 to 84 kWh" in page
+    assert "about 8 to 21 EUR" in page
     assert "U-value (heat lost through each square metre" in page
     assert "What mould risk means for you" in page
     for caution in CAUTIONS:
@@ -140,7 +141,7 @@ def test_pdf_pages_and_cautions(written):
     assert "Thermography indicates; it does not prove." in text
     assert "made safe" in text and "Mould is a health matter" in text
     assert "licensed practitioners have the last word" in text
-    assert "about 150 to 240 kWh" in text
+    assert "about 30 to 84 kWh" in text
 
 
 def test_pdf_rerun_is_byte_identical(tmp_path, written):
