@@ -78,7 +78,8 @@ def test_survey_loads_with_every_part():
     assert survey.pressure_pairs[0].baseline in ids
     assert survey.pressure_pairs[0].pressure_difference_pa == 50.0
     assert survey.series[0].thermogram in ids and survey.series[0].air_log.is_file()
-    assert {m.kind for m in survey.measures} == {"add_layer", "seal_leak", "fix_bridge"}
+    assert {m.kind for m in survey.measures} == {"add_layer", "seal_leak", "fix_bridge",
+                                                 "repair_defect"}
     assert {t.side for t in survey.thermograms} == {"interior", "exterior"}
     assert {t.export.emissivity for t in survey.thermograms} == {0.95, 1.0}
     for tg in survey.thermograms:
