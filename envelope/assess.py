@@ -491,7 +491,8 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
     # defects (interior: cold anomalies of fRsi; exterior: warm anomalies)
     f_map = frsi if frsi is not None else np.asarray(
         (obj - c.outdoor_air_c) / dt, dtype=np.float32)
-    u_rel = {e.name: (e.u_std_w_m2k / e.u_w_m2k if e.u_w_m2k > 0 else None) for e in out.elements}
+    u_rel = {e.name: defect_relative_uncertainty(survey, obj, regions[e.name], c, tg.side)
+             for e in out.elements}
     settings = defects_mod.DefectSettings(delta_f=survey.analysis.defect_threshold,
                                           min_area_m2=survey.analysis.defect_min_area_m2)
     lim = (limits[0].value if limits[0] is not None else None,
@@ -523,6 +524,27 @@ def _exclude_warm_spots(res: ElementResult, reg, defects, q_map, area_map, dt: f
         res.u_whole_w_m2k = float(np.sum(q_map[keep] * area_map[keep]) / (np.sum(area_map[keep]) * dt))
         res.u_note = (res.u_note + "; " if res.u_note else "") + (
             f"whole-area U leaves out {len(warm)} warm spot(s) (likely reflection or heat source)")
+
+
+H_C_BAND = 0.2
+"""Half-width of the rectangular model uncertainty of h_c (as in `uncertainty.UInputs`)."""
+
+
+def defect_relative_uncertainty(survey: Survey, obj, reg, c, side: str) -> float:
+    """Relative standard uncertainty of a defect's extra heat flow [-].
+
+    The extra heat flow is measured against the reference zone of the same image, so the
+    camera's absolute error cancels; what is left is the film coefficient's model
+    uncertainty (±20 % rectangular: 0.2/√3) and the camera's relative accuracy on the
+    temperature contrast, taken conservatively against the reference zone's surface–air
+    difference (rectangular ±relative_accuracy_k, √2 for a difference of two readings).
+    """
+    zone = _zone(reg) & np.isfinite(obj)
+    t_air = c.indoor_air_c if side == "interior" else c.outdoor_air_c
+    contrast = abs(float(np.mean(obj[zone])) - t_air) if zone.any() else 0.0
+    u_t = math.sqrt(2.0) * survey.camera.relative_accuracy_k / math.sqrt(3.0)
+    u_h = H_C_BAND / math.sqrt(3.0)
+    return math.sqrt(u_h**2 + (u_t / max(contrast, 0.5)) ** 2)
 
 
 def _hdd(survey: Survey) -> float:
