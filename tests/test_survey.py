@@ -154,3 +154,33 @@ def test_inspect_prints_what_it_found(survey_dir):
     res = runner.invoke(app, ["inspect", str(survey_dir), "--json"])
     info = json.loads(res.output)
     assert info["thermograms"][0]["shape_px"] == [120, 160]
+
+
+# ---- property test: whatever a tired surveyor types, the loader answers with a SurveyError
+# or a survey, never a traceback
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_LINES = [i for i, line in enumerate(SURVEY_TOML.splitlines()) if " = " in line]
+_scalars = st.one_of(
+    st.integers(-10**6, 10**6).map(str), st.floats(allow_nan=True, allow_infinity=True).map(
+        lambda x: "nan" if x != x else ("inf" if x == float("inf") else ("-inf" if x == float("-inf") else repr(x)))),
+    st.booleans().map(lambda b: "true" if b else "false"),
+    st.text(st.characters(codec="utf-8", exclude_characters='"\\\n\r'), max_size=12).map(lambda t: f'"{t}"'),
+    st.just("[]"), st.just("{}"), st.just('[1, "a"]'), st.just("[[0, 0], [1]]"), st.just("1979-05-27"),
+)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(picks=st.lists(st.tuples(st.sampled_from(_LINES), _scalars), min_size=1, max_size=3))
+def test_loader_never_raises_anything_but_survey_error(tmp_path_factory, picks):
+    lines = SURVEY_TOML.splitlines()
+    for i, value in picks:
+        key = lines[i].split(" = ")[0]
+        lines[i] = f"{key} = {value}"
+    root = write_survey(tmp_path_factory.mktemp("h"), "\n".join(lines) + "\n")
+    try:
+        load_survey(root)
+    except SurveyError as exc:
+        assert str(exc)  # a message, naming what it can
