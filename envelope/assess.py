@@ -596,6 +596,7 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
         return geometry.rasterise(shapely.transform(poly, lambda xy: xy * scale), shape)
 
     frame_shape = {}
+    app_means: list[float] = []
     paths = []
     for i, rel in enumerate(rows["frame"].astype(str)):
         path = (sr.air_log.parent / rel.strip()).resolve()
@@ -615,6 +616,7 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
             app = radiometry.blackbody_reading(readings, ex.emissivity, ex.reflected_c,
                                                ex.transmittance, ex.atmosphere_c, band_um=band)
             app = np.asarray(app) - offset.value_k  # same camera, same night (assumption)
+            app_means.append(float(np.nanmean(app[mask])))
             if progress:
                 progress("series")
             yield np.asarray(radiometry.object_temperature(app, eps, refl[i], tau, None, band_um=band))
@@ -625,13 +627,47 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
     res = transmittance.series_u_from_frames(
         frames(), mask, rows["indoor_air_c"].to_numpy(float), rows["outdoor_air_c"].to_numpy(float),
         refl, eps, model, rows["hours"].to_numpy(float), direction=el.heat_flow, height_m=el.height_m)
+    unc = _series_uncertainty(survey, tg, el, eps, tau, offset, model, app_means, rows, refl,
+                              res.u_w_m2k)
     return {"id": sr.id, "element": sr.element, "thermogram": tg.id, "u_w_m2k": res.u_w_m2k,
-            "camera_offset_k": offset.value_k, "calibration_note": offset.source or
+            **unc, "camera_offset_k": offset.value_k, "calibration_note": offset.source or
             "no camera offset removed: frames carry the camera's absolute accuracy",
             "duration_h": res.duration_h, "n_frames": res.n_samples, "converged": res.converged,
             "u_running_w_m2k": [float(x) for x in res.u_running_w_m2k],
             "times_h": [float(x) for x in res.times_h],
             "checks": list(res.checks)}
+
+
+def _series_uncertainty(survey, tg, el, eps, tau, offset, model, app_means, rows, refl, u_avg):
+    """Standard uncertainty and 95 % interval of a series U [W/(m²·K)].
+
+    Over a night the pixel noise and the scatter of single frames average out; what stays is
+    systematic: emissivity, reflected temperature, the camera's (remaining) offset, the air
+    thermometers and the film coefficient. They are propagated by the same Monte Carlo as a
+    single thermogram (JCGM 101), at the series' mean conditions, and applied to the series
+    U as relative figures (the average method is close to linear in those inputs).
+    """
+    from . import uncertainty
+
+    c = survey.conditions
+    accuracy = offset.u_k * math.sqrt(3.0) if offset.u_k is not None else survey.camera.accuracy_k
+    inputs = uncertainty.UInputs(
+        apparent_c=float(np.mean(app_means)), emissivity=eps,
+        u_emissivity=tg.emissivity_uncertainty, reflected_c=float(np.mean(refl)),
+        u_reflected_k=tg.reflected_uncertainty_k,
+        t_ai_c=float(rows["indoor_air_c"].mean()), u_t_ai_k=c.air_uncertainty_k,
+        t_ae_c=float(rows["outdoor_air_c"].mean()), u_t_ae_k=c.air_uncertainty_k,
+        camera_accuracy_k=accuracy, camera_relative_k=survey.camera.relative_accuracy_k,
+        transmittance=tau, side="interior", h_c_model=model, direction=el.heat_flow,
+        height_m=el.height_m)
+    est = uncertainty.monte_carlo_u(inputs, n_draws=survey.analysis.monte_carlo_draws,
+                                    seed=survey.analysis.seed)
+    if not (est.u_w_m2k > 0 and math.isfinite(u_avg)):
+        return {"u_std_w_m2k": None, "u_low95_w_m2k": None, "u_high95_w_m2k": None}
+    scale = u_avg / est.u_w_m2k
+    return {"u_std_w_m2k": est.u_std * scale, "u_low95_w_m2k": est.low95 * scale,
+            "u_high95_w_m2k": est.high95 * scale,
+            "budget": [{"input": k, "share": float(v)} for k, v in est.budget.items()]}
 
 
 # --------------------------------------------------------------------------- whole survey

@@ -89,6 +89,10 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
                         outlines=[r.polygon_net for r in t.regions.values()])
         if progress:
             progress("figures")
+    from .plots.series import series_figure
+
+    for sr in assessment.series:
+        series_figure(sr, out_dir / f"figures/series-{sr['id']}.png")
 
 
 def write_outputs(assessment, out_dir: Path, progress=None) -> dict:

@@ -345,10 +345,16 @@ def auditor_html(results: Mapping, image: ImageFn, charts: Mapping[str, str | No
     series = results.get("series") or []
     if series:
         parts += ["<h2>Time series (ISO 9869-1 average method)</h2>", table(
-            ["element", "U [W/(m²·K)]", "duration [h]", "checks"],
-            [(r.get("element"), fmt(r.get("u_w_m2k"), 3), fmt(r.get("duration_h"), 1),
+            ["element", "U [W/(m²·K)]", "95 % interval [W/(m²·K)]", "duration [h]", "checks"],
+            [(r.get("element"), fmt(r.get("u_w_m2k"), 3),
+              f"{fmt(r.get('u_low95_w_m2k'), 2)} to {fmt(r.get('u_high95_w_m2k'), 2)}",
+              fmt(r.get("duration_h"), 1),
               "; ".join(f"{k.get('name')}: {k.get('status')}" for k in r.get("checks") or []))
              for r in series])]
+        for r in series:
+            if r.get("figure"):
+                parts.append(figure(image(r["figure"]), f"{r.get('element')}: running U",
+                                    r["figure"]))
     parts += ["<h2>Method and references</h2>",
               Markup("<ul>" + "".join(f"<li>{esc(n)}</li>" for n in METHOD_NOTES) + "</ul>"),
               Markup("<ol>" + "".join(f"<li>{esc(r)}</li>" for r in REFERENCES) + "</ol>")]

@@ -119,6 +119,7 @@ def to_results(a) -> dict:
     for sr in a.series:
         d = dict(sr)
         d["checks"] = [_check(ch) for ch in sr["checks"]]
+        d["figure"] = f"figures/series-{sr['id']}.png"
         series.append(d)
     out = {
         "schema": SCHEMA, "schema_version": SCHEMA_VERSION, "tool_version": __version__,
