@@ -119,3 +119,9 @@ def test_builder_verdicts_and_retrofit_case(run):
     assert r["package"]["kwh_saved_per_year"] > 0
     singles = sum(m["kwh_saved_per_year"] for m in r["measures"])
     assert r["package"]["kwh_saved_per_year"] <= singles * (1 + 1e-5)  # results keep 6 digits
+
+
+def test_series_interval_holds_the_average_method_truth(run):
+    _, r, truth = run
+    (s,) = r["series"]
+    assert s["u_low95_w_m2k"] <= truth["series"]["average_method_u_w_m2k"] <= s["u_high95_w_m2k"]

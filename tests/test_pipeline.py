@@ -15,6 +15,7 @@ import sys
 import time
 
 import numpy as np
+import pytest
 from conftest import SURVEY_TOML, U_WALL, U_WINDOW, readings, write_survey
 from typer.testing import CliRunner
 
@@ -169,3 +170,65 @@ def test_outline_without_display_is_a_clear_error(survey_dir, monkeypatch):
     assert res.exit_code == 2 and "window" in res.output
     res = runner.invoke(app, ["outline", str(survey_dir), "no-such-view"])
     assert res.exit_code == 2 and "room-north" in res.output
+
+
+def _with_probe(text, surface_c, pixel=(30.5, 30.5)):
+    return text.replace("[thermograms.export]", f"""[[thermograms.probes]]
+pixel_xy = [{pixel[0]}, {pixel[1]}]
+surface_c = {surface_c}
+uncertainty_k = 0.1
+
+[thermograms.export]""")
+
+
+def test_probe_removes_the_camera_offset_from_the_whole_image(tmp_path):
+    from envelope import assess, synth
+    from envelope.survey import load_survey
+
+    # conftest renders the scene with a +0.3 K camera offset; the probe reads the true wall
+    t_wall = float(synth.surface_temperature_for_u(0.5, 21.0, 1.0, 20.0, 0.93, 2.5))
+    root = write_survey(tmp_path / "s", _with_probe(SURVEY_TOML, round(t_wall, 3)))
+    s = load_survey(root)
+    obj, *_, offset = assess.correct_thermogram(s, s.thermograms[0])
+    assert offset.value_k == pytest.approx(0.3, abs=0.05)      # planted offset (conftest)
+    # the probe patch is 3 × 3 px of 0.05 K noise (0.017 K of its mean), amplified by 1/ε in
+    # the object temperature: 0.06 K is about 3 standard deviations
+    assert float(np.median(obj[5:25, 5:90])) == pytest.approx(t_wall, abs=0.06)
+    a = assess.assess_survey(s)
+    wall = next(e for e in a.elements if e.name == "test-wall")
+    assert wall.calibrated and "probe" in wall.calibration_note
+    # without the probe, the same wall: wider interval (camera ±1 K instead of the probe)
+    plain = next(e for e in assess.assess_survey(load_survey(write_survey(tmp_path / "p"))).elements
+                 if e.name == "test-wall")
+    # (the reflected temperature, ±1 K by default, stays the largest input of this survey)
+    assert (wall.u_high95_w_m2k - wall.u_low95_w_m2k) < 0.8 * (plain.u_high95_w_m2k - plain.u_low95_w_m2k)
+    assert "camera_absolute" not in {b["input"] for b in wall.budget}
+    assert max(plain.budget, key=lambda b: b["share"])["input"] in ("camera_absolute", "reflected")
+    assert wall.u_low95_w_m2k <= U_WALL <= wall.u_high95_w_m2k
+
+
+def test_survey_camera_offset_and_measured_area(tmp_path):
+    from envelope import assess
+    from envelope.survey import load_survey
+
+    text = SURVEY_TOML.replace("noise_k = 0.05", "noise_k = 0.05\noffset_k = 0.3\noffset_uncertainty_k = 0.1")
+    text = text.replace('name = "test-wall"\nkind = "wall"', 'name = "test-wall"\nkind = "wall"\narea_m2 = 11.0')
+    s = load_survey(write_survey(tmp_path / "s", text))
+    a = assess.assess_survey(s)
+    wall = next(e for e in a.elements if e.name == "test-wall")
+    assert wall.area_net_m2 == 11.0 and wall.area_source.startswith("survey")
+    assert wall.calibrated and "survey camera offset" in wall.calibration_note
+
+
+def test_repair_defect_measure_removes_the_defect_loss():
+    from envelope import energy
+
+    # hand arithmetic: a wall of U 0.3 on 10 m² (3 W/K) with a 1.2 W/K patch of missing
+    # insulation; making the patch good saves 1.2 W/K × 2000 K·day × 24 h / 1000 = 57.6 kWh
+    # of heat a year, / 0.9 efficiency = 64 kWh delivered, × 0.1 /kWh = 6.4 a year
+    els = [("w", 0.3, 0.0, 10.0)]
+    dfs = [energy.DefectLoss("D1", 1.2, 0.0, "point")]
+    m = energy.Measure("refit", "repair_defect", defects=("D1",), cost=64.0)
+    (r,) = energy.evaluate_measures([m], els, dfs, energy.EnergyPrices(0.1, 0.9, 0.2), 2000.0)
+    assert r.kwh_saved_per_year == pytest.approx(64.0)
+    assert r.money_per_year == pytest.approx(6.4) and r.payback_years == pytest.approx(10.0)
