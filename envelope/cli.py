@@ -195,8 +195,7 @@ def assess(
     draws: Annotated[int | None, typer.Option("--draws", min=100, help="Monte Carlo draws per element (overrides analysis.monte_carlo_draws of the survey).")] = None,
     convection: Annotated[Convection | None, typer.Option("--convection", help="Interior h_c model [W/(m²·K)]: ISO 6946 conventional values or Churchill–Chu natural convection (overrides analysis.interior_convection of the survey).")] = None,
 ):
-    """Assess a survey: corrected temperatures, U-values with 95 % intervals, fRsi and
-    mould/condensation risk, ranked defects, heat loss, retrofit case and the reports."""
+    """Assess a survey: corrected temperatures, U-values with 95 % intervals, fRsi and mould/condensation risk, ranked defects, heat loss, retrofit case and the reports."""
     import dataclasses
 
     from .assess import assess_survey
@@ -236,7 +235,7 @@ def _summary(results: dict, out: Path) -> dict:
     return {
         "out": str(out),
         "elements": [{k: e.get(k) for k in ("name", "thermogram", "u_w_m2k", "u_low95_w_m2k",
-                                            "u_high95_w_m2k", "risk", "verdict")}
+                                            "u_high95_w_m2k", "u_valid", "risk", "verdict")}
                      for e in results["elements"]],
         "defects": [{k: d.get(k) for k in ("rank", "id", "class", "element", "kwh_per_year", "risk")}
                     for d in results["defects"]],
@@ -251,6 +250,8 @@ def _print_summary(s: dict) -> None:
         u = e["u_w_m2k"]
         iv = f"[{e['u_low95_w_m2k']:.2f}, {e['u_high95_w_m2k']:.2f}]" if e["u_low95_w_m2k"] is not None else ""
         extra = "".join(f"  {k}: {e[k]}" for k in ("risk", "verdict") if e.get(k))
+        if e.get("u_valid") is False:
+            extra += "  NOT VALID (see report)"
         typer.echo(f"  {e['name']:<26} {e['thermogram']:<22} U {u:.2f} W/(m²·K) 95 % {iv}{extra}")
     typer.echo(f"Defects ({len(s['defects'])}), ranked:")
     for d in s["defects"][:10]:
