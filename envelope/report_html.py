@@ -210,8 +210,11 @@ METHOD_NOTES = (
 
 def _element_rows(results):
     for e in results.get("elements") or []:
+        u_txt = fmt(e.get("u_w_m2k"), 3)
+        if e.get("u_valid") is False:
+            u_txt = f"({u_txt}) NOT VALID"
         yield (f"{e.get('name')} ({e.get('kind') or 'n/a'}, {e.get('thermogram') or 'n/a'})",
-               fmt(e.get("area_net_m2"), 2), fmt(e.get("u_w_m2k"), 3), interval(e),
+               fmt(e.get("area_net_m2"), 2), u_txt, interval(e),
                fmt(e.get("u_whole_w_m2k"), 3),
                f"{e.get('u_method') or 'n/a'} / {e.get('h_c_model') or 'n/a'}"
                f"{'; calibrated' if e.get('calibrated') else ''}",
@@ -316,6 +319,11 @@ def auditor_html(results: Mapping, image: ImageFn, charts: Mapping[str, str | No
          "U 95 % interval [W/(m²·K)]", "U whole area [W/(m²·K)]", "method / h_c model",
          "emissivity [-]", "fRsi min / 5th pct [-]", "fRsi,min mould / condensation [-]",
          "risk"], list(_element_rows(results)), numeric=(1, 2, 4, 6))]
+    flagged = [e for e in results.get("elements") or [] if e.get("u_note")]
+    if flagged:
+        parts.append(Markup("<ul class='small'>" + "".join(
+            f"<li><b>{esc(e.get('name'))}</b> ({esc(e.get('thermogram'))}): {esc(e['u_note'])}</li>"
+            for e in flagged) + "</ul>"))
     lim = results.get("frsi_limit") or {}
     if lim:
         parts.append(table(["limit", "fRsi,min [-]", "critical month", "method"], [
