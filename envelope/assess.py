@@ -346,7 +346,7 @@ def assess_element(survey: Survey, tg: Thermogram, reg, obj, apparent, eps, tau,
 
     cal = _calibration(tg, obj, apparent, reg)
     accuracy = survey.camera.accuracy_k
-    if offset.u_k is not None:
+    if offset.u_k is not None and not (cal is not None and cal.has_probe):
         # the offset is removed from the image: what is left of the camera's absolute error is
         # the reference's uncertainty (as a rectangular half-width of equal variance)
         accuracy = offset.u_k * math.sqrt(3.0)

@@ -342,14 +342,21 @@ def auditor_html(results: Mapping, image: ImageFn, charts: Mapping[str, str | No
     if charts.get("savings"):
         parts.append(figure(charts["savings"], "yearly saving of each measure", cls="chart"))
     parts.append("<h2>Uncertainty budget</h2>")
-    for e in results.get("elements") or []:
-        budget = e.get("budget") or []
-        if budget:
-            parts += [Markup(f"<h3>{esc(e.get('name'))}</h3>"), table(
-                ["input", "share of the U variance"],
-                [(b.get("input"), pct(b.get("share"))) for b in budget], numeric=(1,))]
-        if e.get("calibration_note"):
-            parts.append(Markup(f"<p class='small'>Calibration: {esc(e['calibration_note'])}</p>"))
+    els = [e for e in results.get("elements") or [] if e.get("budget")]
+    inputs = list(dict.fromkeys(b.get("input") for e in els for b in e["budget"]))
+    if els:
+        parts += [Markup("<p>Share of the variance of each element's U that each input "
+                         "carries (Monte Carlo, one input resampled at a time).</p>"), table(
+            ["element (thermogram)", "u(U) [W/(m²·K)]", *inputs],
+            [(f"{e.get('name')} ({e.get('thermogram')})", fmt(e.get("u_std_w_m2k"), 3),
+              *(pct(next((b.get("share") for b in e["budget"] if b.get("input") == k), None),
+                    missing="–") for k in inputs)) for e in els],
+            numeric=tuple(range(1, 2 + len(inputs))))]
+    notes = [(e.get("name"), e.get("calibration_note")) for e in results.get("elements") or []
+             if e.get("calibration_note")]
+    if notes:
+        parts.append(Markup("<ul class='small'>" + "".join(
+            f"<li><b>{esc(n)}</b>: {esc(c)}</li>" for n, c in notes) + "</ul>"))
     series = results.get("series") or []
     if series:
         parts += ["<h2>Time series (ISO 9869-1 average method)</h2>", table(
