@@ -77,6 +77,7 @@ class ThermogramResult:
     defects: list = field(default_factory=list)
     checks: list = field(default_factory=list)
     paired_with: str | None = None
+    offset: Offset | None = None
 
 
 @dataclass
@@ -460,7 +461,7 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
     c = survey.conditions
     obj, regions, h, outlines, eps_map, tau, apparent, atm, offset = correct_thermogram(survey, tg, clock)
     out = ThermogramResult(tg, "assessed", object_c=obj, regions=regions, outlines=outlines,
-                           homography=h, transmittance=tau)
+                           homography=h, transmittance=tau, offset=offset)
     checks = [validity.check_view_angle(tg.view_angle_deg)]
     if tg.hours_since_sun is not None:
         checks.append(validity.check_sun(tg.hours_since_sun, tg.side))

@@ -108,6 +108,8 @@ def to_results(a) -> dict:
             "id": tg.id, "side": tg.side, "file": tg.file.relative_to(s.root).as_posix(),
             "status": t.status, "error": t.error, "paired_with": t.paired_with,
             "transmittance": t.transmittance, "reflected_c": tg.reflected_c,
+            "camera_offset_removed_k": None if t.offset is None else t.offset.value_k,
+            "camera_offset_source": None if t.offset is None else (t.offset.source or None),
             "view_angle_deg": tg.view_angle_deg, "distance_m": tg.distance_m,
             "scale": None if t.homography is None else {
                 "method": t.homography.method, "rms_error_m": t.homography.rms_error_m,
