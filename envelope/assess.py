@@ -10,6 +10,7 @@ A thermogram that fails with a user error is listed in ``failures``; the others 
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import math
 import time
 import warnings
@@ -238,11 +239,38 @@ def camera_offset(survey: Survey, tg: Thermogram, apparent_c, eps_map, tau, atm)
     return Offset()
 
 
+@dataclass
+class Corrected:
+    """One thermogram after radiometric correction and geometry.
+
+    ``thermogram`` is the survey's entry with its reflected temperature as used (offset
+    removed when it was read with the same camera); ``apparent_c`` is the blackbody-
+    equivalent reading after the camera offset was removed.
+    """
+
+    thermogram: Thermogram
+    object_c: np.ndarray
+    apparent_c: np.ndarray
+    regions: dict
+    homography: object
+    outlines: list
+    emissivity: np.ndarray
+    transmittance: float
+    atmosphere_c: float
+    offset: Offset
+
+
 def _correct(survey: Survey, tg: Thermogram, readings: np.ndarray, eps_map: np.ndarray):
     """Readings as exported → object temperature [°C].
 
-    Returns ``(object_c, apparent_c, tau, atmosphere_c, offset)`` with `apparent_c` the
-    blackbody-equivalent reading after the camera offset was removed.
+    Returns ``(object_c, apparent_c, tau, atmosphere_c, offset, thermogram)``.
+
+    Notes
+    -----
+    With ``reflected_by_camera`` the reflected apparent temperature was read with the same
+    camera (reflector method), so it carries the same offset: it is corrected too, and the
+    offset is found again with the corrected value (one fixed-point step; the probe's
+    expected reading depends on the reflected temperature through (1 − ε) only).
     """
     band = survey.camera.band_um
     ex = tg.export
@@ -259,18 +287,23 @@ def _correct(survey: Survey, tg: Thermogram, readings: np.ndarray, eps_map: np.n
                                                          band_um=band))
     atm = tg.atmosphere_c if tg.atmosphere_c is not None else air
     offset = camera_offset(survey, tg, apparent, eps_map, tau, atm)
+    if tg.reflected_by_camera and offset.value_k:
+        declared = tg.reflected_c
+        for _ in range(2):
+            tg = dataclasses.replace(tg, reflected_c=declared - offset.value_k)
+            offset = camera_offset(survey, tg, apparent, eps_map, tau, atm)
+        offset = dataclasses.replace(offset, source=offset.source + (
+            f"; reflected temperature read with the same camera: {declared:.2f} → "
+            f"{tg.reflected_c:.2f} °C"))
     if offset.value_k:
         apparent = apparent - np.float32(offset.value_k)
     obj = radiometry.object_temperature(apparent, eps_map, tg.reflected_c, tau, atm, band_um=band)
-    return np.asarray(obj, dtype=np.float32), apparent, tau, atm, offset
+    return np.asarray(obj, dtype=np.float32), apparent, tau, atm, offset, tg
 
 
-def correct_thermogram(survey: Survey, tg: Thermogram, clock: StageClock = _NO_CLOCK):
-    """Read one thermogram, build its geometry and correct it.
-
-    Returns ``(object_c, regions, h, outlines, eps_map, tau, apparent_c, atmosphere_c,
-    offset)``.
-    """
+def correct_thermogram(survey: Survey, tg: Thermogram, clock: StageClock = _NO_CLOCK) -> Corrected:
+    """Read one thermogram, build its geometry (homography, element regions, emissivity
+    map) and correct it radiometrically."""
     with clock.stage("load"):
         label = str(tg.file.relative_to(survey.root))
         readings = load_pixels(tg.file, label)
@@ -285,8 +318,8 @@ def correct_thermogram(survey: Survey, tg: Thermogram, clock: StageClock = _NO_C
         for name, reg in regions.items():
             eps_map[reg.mask] = emissivity_of(survey, tg, name)[0]
     with clock.stage("correct"):
-        obj, apparent, tau, atm, offset = _correct(survey, tg, readings, eps_map)
-    return obj, regions, h, outlines, eps_map, tau, apparent, atm, offset
+        obj, apparent, tau, atm, offset, tg = _correct(survey, tg, readings, eps_map)
+    return Corrected(tg, obj, apparent, regions, h, outlines, eps_map, tau, atm, offset)
 
 
 def _zone(reg) -> np.ndarray:
@@ -459,7 +492,10 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
     from . import defects as defects_mod
 
     c = survey.conditions
-    obj, regions, h, outlines, eps_map, tau, apparent, atm, offset = correct_thermogram(survey, tg, clock)
+    cor = correct_thermogram(survey, tg, clock)
+    tg = cor.thermogram
+    obj, regions, h, outlines = cor.object_c, cor.regions, cor.homography, cor.outlines
+    tau, apparent, atm, offset = cor.transmittance, cor.apparent_c, cor.atmosphere_c, cor.offset
     out = ThermogramResult(tg, "assessed", object_c=obj, regions=regions, outlines=outlines,
                            homography=h, transmittance=tau, offset=offset)
     checks = [validity.check_view_angle(tg.view_angle_deg)]
@@ -570,7 +606,9 @@ def assess_series(survey: Survey, sr, progress: Progress | None = None) -> dict:
     rows = log[log["frame"].notna() & (log["frame"].astype(str).str.strip() != "")]
     if len(rows) < 3:
         raise SurveyError("expected at least 3 rows with a frame", label, "frame")
-    base_obj, regions, _, outlines, _, _, _, _, offset = correct_thermogram(survey, tg)
+    cor = correct_thermogram(survey, tg)
+    tg = cor.thermogram
+    base_obj, regions, outlines, offset = cor.object_c, cor.regions, cor.outlines, cor.offset
     if sr.element not in regions:
         raise SurveyError(f"element '{sr.element}' has no outline in thermogram '{tg.id}'",
                           survey.file.name, f"series[{sr.id}].element")
@@ -725,7 +763,7 @@ def assess_survey(survey: Survey, progress: Progress | None = None,
     for tg in order:
         try:
             if tg.id in depressurised:
-                obj, *_ = correct_thermogram(survey, tg, clock)
+                obj = correct_thermogram(survey, tg, clock).object_c
                 pair_images[tg.id] = obj
                 tr = ThermogramResult(tg, "paired", object_c=obj,
                                       paired_with=depressurised[tg.id].baseline)

@@ -168,13 +168,14 @@ def correct(survey: SurveyArg, out: OutOpt, replace: ReplaceOpt = False, quiet: 
         with staged_folder(out, replace) as tmp:
             index = []
             for t in s.thermograms:
-                obj, _, h, _, eps, tau, _, _, offset = correct_thermogram(s, t)
-                tifffile.imwrite(tmp / f"{t.id}-surface-c.tif", obj.astype(np.float32),
+                cor = correct_thermogram(s, t)
+                tifffile.imwrite(tmp / f"{t.id}-surface-c.tif", cor.object_c.astype(np.float32),
                                  compression="zlib", metadata=None)
-                index.append({"id": t.id, "file": f"{t.id}-surface-c.tif", "transmittance": float(tau),
-                              "camera_offset_removed_k": offset.value_k, "unit": "°C"})
+                index.append({"id": t.id, "file": f"{t.id}-surface-c.tif",
+                              "transmittance": float(cor.transmittance),
+                              "camera_offset_removed_k": cor.offset.value_k, "unit": "°C"})
                 if not quiet:
-                    typer.echo(f"corrected {t.id}  (τ = {tau:.4f})", err=True)
+                    typer.echo(f"corrected {t.id}  (τ = {cor.transmittance:.4f})", err=True)
             (tmp / "corrected.json").write_text(json.dumps(index, indent=2, sort_keys=True) + "\n")
     except SurveyError as exc:
         _fail(exc)

@@ -204,6 +204,7 @@ class Thermogram:
     known_length: KnownLength | None = None
     probes: tuple[Probe, ...] = ()
     tapes: tuple[Tape, ...] = ()
+    reflected_by_camera: bool = False
 
 
 @dataclass(frozen=True)
@@ -618,7 +619,7 @@ def _thermograms(top: _Table, root: Path, fname: str, elements: dict) -> list[Th
         "id", "file", "outlines", "side", "reflected_c", "reflected_uncertainty_k", "emissivity",
         "emissivity_uncertainty", "emissivity_by_element", "distance_m", "transmittance",
         "atmosphere_c", "view_angle_deg", "hours_since_sun", "export", "reference_points",
-        "known_length", "probes", "tapes",
+        "known_length", "probes", "tapes", "reflected_by_camera",
     ))
     if not tables:
         raise SurveyError("no thermograms: expected at least one [[thermograms]] table", fname, "thermograms")
@@ -667,6 +668,7 @@ def _thermograms(top: _Table, root: Path, fname: str, elements: dict) -> list[Th
             view_angle_deg=t.num("view_angle_deg", 0.0, 0, 90, "deg"),
             hours_since_sun=t.num("hours_since_sun", None, 0, 10000, "h"), export=export,
             reference_points=ref, known_length=known, probes=probes, tapes=tapes,
+            reflected_by_camera=t.bool("reflected_by_camera", False),
         ))
     return out
 

@@ -189,7 +189,8 @@ def test_probe_removes_the_camera_offset_from_the_whole_image(tmp_path):
     t_wall = float(synth.surface_temperature_for_u(0.5, 21.0, 1.0, 20.0, 0.93, 2.5))
     root = write_survey(tmp_path / "s", _with_probe(SURVEY_TOML, round(t_wall, 3)))
     s = load_survey(root)
-    obj, *_, offset = assess.correct_thermogram(s, s.thermograms[0])
+    cor = assess.correct_thermogram(s, s.thermograms[0])
+    obj, offset = cor.object_c, cor.offset
     assert offset.value_k == pytest.approx(0.3, abs=0.05)      # planted offset (conftest)
     # the probe patch is 3 × 3 px of 0.05 K noise (0.017 K of its mean), amplified by 1/ε in
     # the object temperature: 0.06 K is about 3 standard deviations
@@ -232,3 +233,23 @@ def test_repair_defect_measure_removes_the_defect_loss():
     (r,) = energy.evaluate_measures([m], els, dfs, energy.EnergyPrices(0.1, 0.9, 0.2), 2000.0)
     assert r.kwh_saved_per_year == pytest.approx(64.0)
     assert r.money_per_year == pytest.approx(6.4) and r.payback_years == pytest.approx(10.0)
+
+
+def test_reflected_read_with_the_same_camera_gets_the_offset_removed(tmp_path):
+    from envelope import assess, synth
+    from envelope.survey import load_survey
+
+    # conftest: true reflected 20.0 °C, camera offset +0.3 K. A surveyor who read the
+    # reflector with this camera wrote 20.3; with the flag and a probe the result must match
+    # a survey that wrote the true 20.0.
+    t_wall = round(float(synth.surface_temperature_for_u(0.5, 21.0, 1.0, 20.0, 0.93, 2.5)), 3)
+    true_text = _with_probe(SURVEY_TOML, t_wall)
+    cam_text = true_text.replace("reflected_c = 20.0\ndistance_m",
+                                 "reflected_c = 20.3\nreflected_by_camera = true\ndistance_m")
+    ref = assess.assess_survey(load_survey(write_survey(tmp_path / "a", true_text)))
+    cam = assess.assess_survey(load_survey(write_survey(tmp_path / "b", cam_text)))
+    u_ref = next(e for e in ref.elements if e.name == "test-wall").u_w_m2k
+    u_cam = next(e for e in cam.elements if e.name == "test-wall").u_w_m2k
+    # the offset comes from a 3 × 3 px probe patch of 0.05 K noise: ±0.06 K is ~3 sigma
+    assert cam.thermograms[0].thermogram.reflected_c == pytest.approx(20.0, abs=0.06)
+    assert u_cam == pytest.approx(u_ref, abs=0.02)
