@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import copy
 import json
+import textwrap
 from pathlib import Path
 
 import numpy as np
@@ -455,7 +456,7 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
     ax.set_autoscale_on(False)
     text_ax = fig.add_axes((0.12, 0.02, 0.45, 0.05))
     keys = "\n".join(f"{k:<12} {v}" for k, v in SHORTCUTS)
-    names = ", ".join(element_names)
+    names = "\n".join(textwrap.wrap(", ".join(element_names), 34))
     fig.text(0.73, 0.92, keys + (f"\n\nelements:\n{names}" if names else ""),
              va="top", family="monospace", fontsize=8)
     status = fig.text(0.05, 0.95, "", fontsize=9)
