@@ -94,11 +94,11 @@ def test_saturation_pressure_branches_meet_at_zero_and_broadcast():
 
 def test_saturation_pressure_agrees_with_psychrolib():
     # psychrolib 2.5 GetSatVapPres (ASHRAE Fundamentals 2017, ice below 0.01 °C).
-    # Measured deviation: max 0.34 % over -15...+30 °C, 0.50 % at -20 °C where the
-    # ISO fit over ice departs most; tolerances 0.5 % and 0.6 % respectively.
+    # Measured deviation: max 0.41 % over -17.5...+30 °C; at -20 °C the ISO 13788 ice
+    # formula itself lies 0.504 % below the ASHRAE (Hyland-Wexler) value, so 0.51 % there.
     for t in np.arange(-20.0, 30.01, 2.5):
         ref = psychrolib.GetSatVapPres(float(t))
-        rtol = 6e-3 if t < -17.0 else 5e-3
+        rtol = 5.1e-3 if t < -19.0 else 5e-3
         assert saturation_vapour_pressure(t) == pytest.approx(ref, rel=rtol), t
 
 
