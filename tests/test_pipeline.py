@@ -253,3 +253,10 @@ def test_reflected_read_with_the_same_camera_gets_the_offset_removed(tmp_path):
     # the offset comes from a 3 × 3 px probe patch of 0.05 K noise: ±0.06 K is ~3 sigma
     assert cam.thermograms[0].thermogram.reflected_c == pytest.approx(20.0, abs=0.06)
     assert u_cam == pytest.approx(u_ref, abs=0.02)
+
+
+def test_quiet_is_silent_and_default_prints_a_summary(survey_dir, tmp_path):
+    res = runner.invoke(app, ["assess", str(survey_dir), "--out", str(tmp_path / "q"), "--quiet"])
+    assert res.exit_code == 0 and res.output == ""
+    res = runner.invoke(app, ["assess", str(survey_dir), "--out", str(tmp_path / "v")])
+    assert res.exit_code == 0 and "Elements (2)" in res.output and "W/K" in res.output
