@@ -79,6 +79,7 @@ class ThermogramResult:
     checks: list = field(default_factory=list)
     paired_with: str | None = None
     offset: Offset | None = None
+    u_map: np.ndarray | None = None
 
 
 @dataclass
@@ -534,6 +535,7 @@ def assess_thermogram(survey: Survey, tg: Thermogram, limits, survey_chk, pair=N
                                           min_area_m2=survey.analysis.defect_min_area_m2)
     lim = (limits[0].value if limits[0] is not None else None,
            limits[1].value if limits[1] is not None else None)
+    out.u_map = np.where(np.isfinite(q_map), q_map / dt, np.nan).astype(np.float32)
     with clock.stage("defects"):
         out.defects = defects_mod.find_defects(
             obj, f_map, q_map, area_map, regions, tg.side, dt, _hdd(survey),

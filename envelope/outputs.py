@@ -66,6 +66,7 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
     from .plots.defects import defects_figure
     from .plots.frsi import frsi_figure
     from .plots.overlay import overlay_figure
+    from .plots.umap import u_map_figure
     from .results import figure_paths
 
     limit = assessment.limit_mould
@@ -83,6 +84,9 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
             defects_figure(t.object_c, [d for d in assessment.defects if d.thermogram == tg.id],
                            out_dir / paths["defects"], regions=t.regions,
                            title=f"{tg.id} — defects, numbered by rank")
+        if "u_map" in paths:
+            u_map_figure(t.u_map, t.regions, out_dir / paths["u_map"],
+                         title=f"{tg.id} — U per pixel ({tg.side} method)")
         if "frsi" in paths:
             frsi_figure(t.frsi, out_dir / paths["frsi"], limit=limit,
                         title=f"{tg.id} — temperature factor fRsi",

@@ -304,6 +304,7 @@ def auditor_html(results: Mapping, image: ImageFn, charts: Mapping[str, str | No
         figs = t.get("figures") or {}
         for key, cap in (("overlay", "element outlines"), ("defects", "defects, ranked"),
                          ("frsi", "temperature factor fRsi [-]"),
+                         ("u_map", "U per pixel [W/(m²·K)]"),
                          ("corrected", "corrected surface temperature [°C]")):
             if figs.get(key):
                 parts.append(figure(image(figs[key]), f"{tid}: {cap}", figs[key]))

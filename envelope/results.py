@@ -83,6 +83,7 @@ def figure_paths(tid: str, side: str, status: str) -> dict:
     if status == "assessed":
         paths["overlay"] = f"figures/{tid}-outlines.png"
         paths["defects"] = f"figures/{tid}-defects.png"
+        paths["u_map"] = f"figures/{tid}-u.png"
         if side == "interior":
             paths["frsi"] = f"figures/{tid}-frsi.png"
     return paths
