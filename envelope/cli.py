@@ -154,8 +154,12 @@ def inspect(
 
 
 @app.command()
-def correct(survey: SurveyArg, out: OutOpt, replace: ReplaceOpt = False, quiet: QuietOpt = False):
-    """Write the corrected surface-temperature image [°C, float32 TIFF] of every thermogram."""
+def correct(
+    survey: SurveyArg, out: OutOpt, replace: ReplaceOpt = False, quiet: QuietOpt = False,
+    metric_cm: Annotated[float | None, typer.Option("--metric-cm", min=0.1, max=100.0, help="Also write each image resampled onto the element plane at this grid step [cm per pixel].")] = None,
+):
+    """Write the corrected surface-temperature image [°C, float32 TIFF] of every thermogram
+    (and, with --metric-cm, the same resampled onto a metric grid on the element plane)."""
     import numpy as np
     import tifffile
 
@@ -171,9 +175,19 @@ def correct(survey: SurveyArg, out: OutOpt, replace: ReplaceOpt = False, quiet: 
                 cor = correct_thermogram(s, t)
                 tifffile.imwrite(tmp / f"{t.id}-surface-c.tif", cor.object_c.astype(np.float32),
                                  compression="zlib", metadata=None)
-                index.append({"id": t.id, "file": f"{t.id}-surface-c.tif",
-                              "transmittance": float(cor.transmittance),
-                              "camera_offset_removed_k": cor.offset.value_k, "unit": "°C"})
+                entry = {"id": t.id, "file": f"{t.id}-surface-c.tif",
+                         "transmittance": float(cor.transmittance),
+                         "camera_offset_removed_k": cor.offset.value_k, "unit": "°C"}
+                if metric_cm is not None:
+                    from .geometry import rectify
+
+                    rec = rectify(cor.object_c, cor.homography, metric_cm)
+                    tifffile.imwrite(tmp / f"{t.id}-metric-c.tif", rec.image.astype(np.float32),
+                                     compression="zlib", metadata=None)
+                    entry["metric"] = {"file": f"{t.id}-metric-c.tif", "cm_per_px": rec.cm_per_px,
+                                       "origin_m": list(rec.origin_m), "extent_m": list(rec.extent_m),
+                                       "row_0_at_top": not rec.y_down}
+                index.append(entry)
                 if not quiet:
                     typer.echo(f"corrected {t.id}  (τ = {cor.transmittance:.4f})", err=True)
             (tmp / "corrected.json").write_text(json.dumps(index, indent=2, sort_keys=True) + "\n")

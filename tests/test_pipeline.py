@@ -260,3 +260,17 @@ def test_quiet_is_silent_and_default_prints_a_summary(survey_dir, tmp_path):
     assert res.exit_code == 0 and res.output == ""
     res = runner.invoke(app, ["assess", str(survey_dir), "--out", str(tmp_path / "v")])
     assert res.exit_code == 0 and "Elements (2)" in res.output and "W/K" in res.output
+
+
+def test_correct_metric_grid_has_the_wall_size(survey_dir, tmp_path):
+    import tifffile
+
+    out = tmp_path / "m"
+    res = runner.invoke(app, ["correct", str(survey_dir), "--out", str(out), "--quiet",
+                              "--metric-cm", "5"])
+    assert res.exit_code == 0, res.output
+    meta = json.loads((out / "corrected.json").read_text())[0]["metric"]
+    img = tifffile.imread(out / meta["file"])
+    # the 4 m × 3 m test wall (conftest, 40 px/m) at 5 cm per pixel: 80 × 60 cells
+    assert img.shape == (60, 80) and meta["cm_per_px"] == 5
+    assert np.isfinite(img).mean() > 0.95
