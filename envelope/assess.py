@@ -199,6 +199,13 @@ class Offset:
     source: str = ""
 
 
+def _patch_mean(img, row: int, col: int) -> float:
+    """Mean of the 3 × 3 px patch around a marked pixel (NaN-aware): one spot reading."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # an all-NaN patch gives NaN
+        return float(np.nanmean(img[max(row - 1, 0): row + 2, max(col - 1, 0): col + 2]))
+
+
 def camera_offset(survey: Survey, tg: Thermogram, apparent_c, eps_map, tau, atm) -> Offset:
     """The camera's offset from the thermogram's contact-probe spots (their mean), else the
     survey's ``[camera] offset_k``, else none.
@@ -219,7 +226,7 @@ def camera_offset(survey: Survey, tg: Thermogram, apparent_c, eps_map, tau, atm)
         if not (0 <= row < h and 0 <= col < w):
             raise SurveyError(f"probe pixel {list(p.pixel_xy)} lies outside the {w}×{h} px frame",
                               survey.file.name, f"thermograms[{tg.id}].probes[{i}].pixel_xy")
-        measured = float(np.nanmean(apparent_c[max(row - 1, 0): row + 2, max(col - 1, 0): col + 2]))
+        measured = _patch_mean(apparent_c, row, col)
         if not math.isfinite(measured):
             raise SurveyError("probe pixel has no valid reading around it", survey.file.name,
                               f"thermograms[{tg.id}].probes[{i}].pixel_xy")
@@ -436,9 +443,7 @@ def _calibration(tg: Thermogram, obj, apparent, reg):
         return None
 
     def patch(img, rc):
-        r, c = rc
-        v = img[max(r - 1, 0): r + 2, max(c - 1, 0): c + 2]
-        return float(np.nanmean(v))
+        return _patch_mean(img, rc[0], rc[1])
 
     kw = {}
     for p in tg.probes:

@@ -97,6 +97,8 @@ def inspect(
     json_out: Annotated[bool, typer.Option("--json", help="Print what was found as JSON.")] = False,
 ):
     """Load and validate a survey (TOML, pixel files, outlines) and print what it holds."""
+    import numpy as np
+
     from . import geometry
     from .survey import load_pixels
 
@@ -109,8 +111,8 @@ def inspect(
             thermos.append({"id": t.id, "side": t.side, "shape_px": list(img.shape),
                             "elements": sorted({o.element for o in outl if o.role == "element"}),
                             "reference_zones": sorted({o.element for o in outl if o.role == "reference"}),
-                            "reading_range_c": [float(f"{img[~(img != img)].min():.2f}"),
-                                                float(f"{img[~(img != img)].max():.2f}")]})
+                            "reading_range_c": [round(float(np.nanmin(img)), 2),
+                                                round(float(np.nanmax(img)), 2)]})
     except SurveyError as exc:
         _fail(exc)
     from .assess import survey_checks

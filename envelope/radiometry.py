@@ -20,6 +20,7 @@ import numpy as np
 from scipy import constants as _sc
 from scipy import optimize, special
 
+from envelope.condensation import saturation_vapour_pressure
 from envelope.errors import EnvelopeWarning, SurveyError
 
 DEFAULT_BAND_UM = (7.5, 14.0)
@@ -488,20 +489,13 @@ def export_reading(apparent_c, export_emissivity=1.0, export_reflected_c=20.0,
                               export_transmittance, export_atmosphere_c, band_um)
 
 
-def _saturation_vapour_pressure_pa(t_c):
-    """Magnus form over water (t >= 0 °C) and ice, constants of ISO 13788:2012 Annex E."""
-    t = np.asarray(t_c, dtype=float)
-    return np.where(t >= 0, 610.5 * np.exp(17.269 * t / (237.3 + t)),
-                    610.5 * np.exp(21.875 * t / (265.5 + t)))
-
-
 _R_V = 461.5  # specific gas constant of water vapour [J kg-1 K-1]
 _P_ATM = 101325.0
 
 
 def _tau_continuum(distance_m, air_c, rh, band_um):
     t_k = np.asarray(air_c, dtype=float) + _ZERO_C
-    e_pa = np.asarray(rh, dtype=float) * _saturation_vapour_pressure_pa(air_c)
+    e_pa = np.asarray(rh, dtype=float) * saturation_vapour_pressure(air_c)
     rho_v = e_pa / (_R_V * t_k)  # vapour density [kg m-3]
     w_g_cm2 = rho_v * np.asarray(distance_m, dtype=float) * 0.1  # precipitable water [g cm-2]
     # Band average weighted by the blackbody spectrum at the air temperature.

@@ -152,28 +152,24 @@ def png_data_uri(path: Path | None) -> str | None:
 
 
 def measures_table(results: Mapping) -> pd.DataFrame:
-    """Measures and the package as a table (units in the column names)."""
-    rows = list(results.get("measures") or [])
-    if results.get("package"):
-        rows.append(results["package"])
-    cols = {"name": "measure", "kind": "kind", "cost": "cost",
-            "kwh_saved_per_year": "saved [kWh/yr]", "kwh_saved_low": "saved low [kWh/yr]",
-            "kwh_saved_high": "saved high [kWh/yr]", "money_per_year": "money [/yr]",
-            "co2_kg_per_year": "CO2 [kg/yr]", "payback_years": "payback [yr]"}
-    frame = pd.DataFrame([{v: r.get(k) for k, v in cols.items()} for r in rows],
-                         columns=list(cols.values()))
-    frame["targets"] = [", ".join(map(str, r.get("targets") or [])) for r in rows]
-    return frame
+    """Measures and the package as a table with readable headers (units in the names)."""
+    from .results import measures_table as table
+
+    return table(results).rename(columns={
+        "name": "measure", "kwh_saved_per_year": "saved [kWh/yr]",
+        "kwh_saved_low": "saved low [kWh/yr]", "kwh_saved_high": "saved high [kWh/yr]",
+        "money_per_year": "money [/yr]", "co2_kg_per_year": "CO2 [kg/yr]",
+        "payback_years": "payback [yr]"})
 
 
 def elements_table(results: Mapping) -> pd.DataFrame:
-    """Elements with U, interval, fRsi and verdict (units in the column names)."""
-    cols = {"name": "element", "kind": "kind", "area_net_m2": "area [m2]",
-            "u_w_m2k": "U [W/m2K]", "u_low95_w_m2k": "U low95 [W/m2K]",
-            "u_high95_w_m2k": "U high95 [W/m2K]", "frsi_min": "fRsi min [-]",
-            "risk": "risk", "u_specified_w_m2k": "U specified [W/m2K]", "verdict": "verdict"}
-    return pd.DataFrame([{v: e.get(k) for k, v in cols.items()}
-                         for e in results.get("elements") or []], columns=list(cols.values()))
+    """Elements with U, interval, fRsi and verdict, readable headers (units in the names)."""
+    from .results import elements_table as table
+
+    return table(results).rename(columns={
+        "name": "element", "area_net_m2": "area [m2]", "u_w_m2k": "U [W/m2K]",
+        "u_low95_w_m2k": "U low95 [W/m2K]", "u_high95_w_m2k": "U high95 [W/m2K]",
+        "frsi_min": "fRsi min [-]", "u_specified_w_m2k": "U specified [W/m2K]"})
 
 
 def money_range(measure: Mapping) -> tuple[float | None, float | None]:

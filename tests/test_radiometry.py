@@ -206,12 +206,13 @@ def test_transmittance_behaviour():
 
 
 def test_transmittance_vapour_density_matches_coolprop():
-    # The vapour density inside the model uses Magnus (ISO 13788); CoolProp's saturation
+    # The vapour density inside the model uses Magnus (ISO 13788, the project's
+    # condensation.saturation_vapour_pressure, imported by radiometry); CoolProp's saturation
     # pressure of water at 20 °C is 2339 Pa (IAPWS-95); Magnus agrees within 0.5 %.
     from CoolProp.CoolProp import PropsSI
 
     p_ref = PropsSI("P", "T", 293.15, "Q", 0, "Water")
-    assert rad._saturation_vapour_pressure_pa(20.0) == pytest.approx(p_ref, rel=5e-3)
+    assert rad.saturation_vapour_pressure(20.0) == pytest.approx(p_ref, rel=5e-3)
 
 
 def test_materials_table():

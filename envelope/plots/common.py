@@ -42,6 +42,20 @@ def robust_limits(values, lo_pct: float = 1.0, hi_pct: float = 99.0,
     return float(lo), float(hi)
 
 
+def polygon_rings(geom, holes: bool = False) -> list[np.ndarray]:
+    """Rings of a shapely Polygon / MultiPolygon as (N, 2) arrays [px] for plotting:
+    the exteriors, and the interiors too when `holes` (openings cut out of a wall)."""
+    if geom is None or geom.is_empty:
+        return []
+    out = []
+    for part in getattr(geom, "geoms", [geom]):
+        if hasattr(part, "exterior"):
+            out.append(np.asarray(part.exterior.coords, dtype=float))
+            if holes:
+                out.extend(np.asarray(r.coords, dtype=float) for r in part.interiors)
+    return out
+
+
 def image_axes(image, *, cmap=TEMPERATURE_CMAP, label="Surface temperature [°C]", title=None,
                vmin=None, vmax=None, figsize=(7.0, 5.4)):
     """A figure with `image` shown in pixel coordinates and a labelled colour bar.

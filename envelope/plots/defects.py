@@ -6,7 +6,7 @@ from pathlib import Path
 
 import numpy as np
 
-from envelope.plots.common import TEMPERATURE_CMAP, image_axes, save
+from envelope.plots.common import TEMPERATURE_CMAP, image_axes, polygon_rings, save
 
 SHORT_LABELS = {
     "linear thermal bridge": "linear bridge",
@@ -23,14 +23,6 @@ CLASS_COLOURS = {
     "unexplained": "#bbbbbb",
 }
 ELEMENT_COLOUR = "0.8"
-
-
-def _rings(geom):
-    """Exterior rings of a shapely polygon or multipolygon, as (N, 2) arrays [px]."""
-    if geom is None or geom.is_empty:
-        return []
-    parts = getattr(geom, "geoms", [geom])
-    return [np.asarray(p.exterior.coords, dtype=float) for p in parts if hasattr(p, "exterior")]
 
 
 def defects_figure(image_c, defects, path: str | Path, regions=None,
@@ -65,17 +57,17 @@ def defects_figure(image_c, defects, path: str | Path, regions=None,
                          title=title)
     ax.images[0].set_extent((0.0, w, h, 0.0))
     for el in (regions or {}).values():
-        for ring in _rings(getattr(el, "polygon_net", None)):
+        for ring in polygon_rings(getattr(el, "polygon_net", None)):
             ax.plot(ring[:, 0], ring[:, 1], color=ELEMENT_COLOUR, lw=0.6, ls="--")
     seen = set()
     for d in sorted(defects, key=lambda x: x.rank):
         colour = CLASS_COLOURS.get(d.defect_class, "#bbbbbb")
         label = SHORT_LABELS.get(d.defect_class, d.defect_class)
-        for ring in _rings(d.polygon):
+        for ring in polygon_rings(d.polygon):
             ax.plot(ring[:, 0], ring[:, 1], color=colour, lw=1.3,
                     label=None if label in seen else label)
             seen.add(label)
-        rings = _rings(d.polygon)
+        rings = polygon_rings(d.polygon)
         if rings:  # number above the top-left of its largest part (a group: its first)
             top = min(rings, key=lambda r: (r[:, 0].min(), r[:, 1].min()))
             x0, y0 = float(top[:, 0].min()), float(top[:, 1].min())

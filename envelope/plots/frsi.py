@@ -7,7 +7,7 @@ from pathlib import Path
 import numpy as np
 from matplotlib.lines import Line2D
 
-from envelope.plots.common import FACTOR_CMAP, image_axes, robust_limits, save
+from envelope.plots.common import FACTOR_CMAP, image_axes, polygon_rings, robust_limits, save
 
 LIMIT_COLOUR = "white"
 OUTLINE_COLOUR = "0.85"
@@ -22,12 +22,8 @@ def _limit_value(limit) -> float | None:
 
 def _outline_xy(outline) -> list[np.ndarray]:
     """Exterior rings of a shapely polygon / multipolygon or an (N, 2) sequence, in px."""
-    geoms = getattr(outline, "geoms", None)
-    if geoms is not None:
-        return [ring for g in geoms for ring in _outline_xy(g)]
-    exterior = getattr(outline, "exterior", None)
-    if exterior is not None:
-        return [np.asarray(exterior.coords, dtype=float)]
+    if hasattr(outline, "geom_type"):
+        return polygon_rings(outline)
     xy = np.asarray(outline, dtype=float)
     if xy.ndim != 2 or xy.shape[1] != 2:
         raise ValueError(f"an outline must be a polygon or (N, 2) points; got shape {xy.shape}")

@@ -7,9 +7,8 @@ from pathlib import Path
 
 import numpy as np
 import shapely
-from shapely.geometry import MultiPolygon, Polygon
 
-from envelope.plots.common import TEMPERATURE_CMAP, image_axes, save
+from envelope.plots.common import TEMPERATURE_CMAP, image_axes, polygon_rings, save
 
 ELEMENT_COLOUR = "white"
 REFERENCE_COLOUR = "cyan"
@@ -17,21 +16,8 @@ OPENING_COLOUR = "white"
 DEFECT_COLOUR = "lime"
 
 
-def _rings(geom):
-    """Exterior and interior rings of a (Multi)Polygon as (N, 2) arrays."""
-    if geom is None or geom.is_empty:
-        return []
-    polys = geom.geoms if isinstance(geom, MultiPolygon) else [geom]
-    out = []
-    for p in polys:
-        if isinstance(p, Polygon):
-            out.append(np.asarray(p.exterior.coords))
-            out.extend(np.asarray(r.coords) for r in p.interiors)
-    return out
-
-
 def _draw(ax, geom, colour, ls, lw=1.3):
-    for ring in _rings(geom):
+    for ring in polygon_rings(geom, holes=True):
         ax.plot(ring[:, 0], ring[:, 1], ls, color=colour, lw=lw)
 
 

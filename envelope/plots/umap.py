@@ -7,7 +7,7 @@ from pathlib import Path
 
 import numpy as np
 
-from envelope.plots.common import FACTOR_CMAP, image_axes, robust_limits, save
+from envelope.plots.common import FACTOR_CMAP, image_axes, polygon_rings, robust_limits, save
 
 
 def u_map_figure(u_map, regions, path: str | Path, title: str | None = None) -> Path:
@@ -29,11 +29,8 @@ def u_map_figure(u_map, regions, path: str | Path, title: str | None = None) -> 
     h, w = u.shape
     ax.images[0].set_extent((0.0, w, h, 0.0))
     for reg in (regions or {}).values():
-        geom = reg.polygon_net
-        for part in getattr(geom, "geoms", [geom]):
-            if hasattr(part, "exterior"):
-                xy = np.asarray(part.exterior.coords)
-                ax.plot(xy[:, 0], xy[:, 1], color="white", lw=0.8)
+        for xy in polygon_rings(reg.polygon_net, holes=True):
+            ax.plot(xy[:, 0], xy[:, 1], color="white", lw=0.8)
     ax.set_xlim(0, w)
     ax.set_ylim(h, 0)
     ax.set_facecolor("#d0d0d0")  # pixels off the elements
