@@ -473,13 +473,13 @@ def frsi_verdict(res: ElementResult, frsi_values, survey: Survey, limits):
     else:
         t_e = cl.design_outdoor_c if cl.design_outdoor_c is not None else survey.conditions.outdoor_air_c
     rh_i = _design_rh(survey, mould, crit)
-    v = condensation.assess_frsi(frsi_values, mould, cond, t_i, t_e, rh_i)
-    res.frsi_min, res.frsi_p05, res.risk = v.frsi_min, v.frsi_p05, v.risk
-    if res.kind == "window" and v.risk == "mould":
+    if res.kind == "window":
         # glazing and frames do not feed mould the way opaque surfaces do; what matters on
         # them is surface condensation (critical surface humidity 1.0) — common practice
-        res.risk = "none"
+        mould = cond
         res.risk_note = "glazing: judged against the condensation limit only"
+    v = condensation.assess_frsi(frsi_values, mould, cond, t_i, t_e, rh_i)
+    res.frsi_min, res.frsi_p05, res.risk = v.frsi_min, v.frsi_p05, v.risk
     res.t_si_design_c, res.rh_si_design = v.t_si_design_c, v.rh_si_design
 
 
