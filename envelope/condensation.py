@@ -15,13 +15,15 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from envelope.constants import R_V_J_KGK as _R_V
+from envelope.constants import T0_K
 from envelope.errors import EnvelopeWarning, SurveyError
 
 P0_PA = 610.5
 """Saturation vapour pressure at 0 °C in the formulas of ISO 13788:2012 Annex E [Pa]."""
 _A_WATER, _B_WATER = 17.269, 237.3
 _A_ICE, _B_ICE = 21.875, 265.5
-R_V_J_KGK = 461.5
+R_V_J_KGK = _R_V
 """Gas constant of water vapour [J kg-1 K-1] (ISO 13788:2012)."""
 MIN_DT_K = 1.0
 """Indoor-outdoor difference below which fRsi is ill-conditioned [K]."""
@@ -326,7 +328,7 @@ def _p_i_moisture(t_e_c, rh_e, t_i_c, kw):
     n = _positive(kw["air_changes_per_h"], "air_changes_per_h")
     v = _positive(kw["volume_m3"], "volume_m3")
     dv_kg_m3 = g / (n * v)
-    dp = dv_kg_m3 * R_V_J_KGK * (np.asarray(t_i_c, dtype=float) + 273.15)
+    dp = dv_kg_m3 * R_V_J_KGK * (np.asarray(t_i_c, dtype=float) + T0_K)
     return vapour_pressure(t_e_c, rh_e) + kw["safety_factor"] * dp
 
 

@@ -16,10 +16,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-#: Stefan–Boltzmann constant [W m-2 K-4] (CODATA 2018, exact in the 2019 SI).
-SIGMA = 5.670374419e-8
-#: 0 °C in kelvin.
-T0_K = 273.15
+from envelope.constants import SIGMA, T0_K  # noqa: F401  (re-exported)
+
 #: Standard gravity [m s-2].
 G_M_S2 = 9.80665
 #: Specific gas constant of dry air [J kg-1 K-1] (R / M with M = 28.9647 g/mol).

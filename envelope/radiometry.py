@@ -21,6 +21,7 @@ from scipy import constants as _sc
 from scipy import optimize, special
 
 from envelope.condensation import saturation_vapour_pressure
+from envelope.constants import P_ATM_PA, R_V_J_KGK, T0_K
 from envelope.errors import EnvelopeWarning, SurveyError
 
 DEFAULT_BAND_UM = (7.5, 14.0)
@@ -29,7 +30,7 @@ DEFAULT_BAND_UM = (7.5, 14.0)
 _H, _C, _KB = _sc.h, _sc.c, _sc.k
 _C1L = 2.0 * _H * _C**2  # first radiation constant for radiance [W m2 sr-1]
 _C2 = _H * _C / _KB  # second radiation constant [m K]
-_ZERO_C = 273.15
+_ZERO_C = T0_K
 _PI4_15 = math.pi**4 / 15.0
 # Coefficients B_k / (k! (k + 3)) of the power series of int_0^x t^3/(e^t - 1) dt, k = 0..30.
 _BERN = special.bernoulli(30)
@@ -489,8 +490,8 @@ def export_reading(apparent_c, export_emissivity=1.0, export_reflected_c=20.0,
                               export_transmittance, export_atmosphere_c, band_um)
 
 
-_R_V = 461.5  # specific gas constant of water vapour [J kg-1 K-1]
-_P_ATM = 101325.0
+_R_V = R_V_J_KGK
+_P_ATM = P_ATM_PA
 
 
 def _tau_continuum(distance_m, air_c, rh, band_um):

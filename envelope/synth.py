@@ -11,13 +11,13 @@ coordinates are (x, y) = (column, row), pixel centres at (col + 0.5, row + 0.5),
 from __future__ import annotations
 
 import numpy as np
-from scipy import constants as _sc
 from scipy import ndimage
 
+from envelope.constants import SIGMA, T0_K
 from envelope.radiometry import DEFAULT_BAND_UM, apparent_temperature
 
-_SIGMA = _sc.Stefan_Boltzmann
-_ZERO_C = 273.15
+_SIGMA = SIGMA
+_ZERO_C = T0_K
 
 
 def steady_surface_temperatures(u_w_m2k, t_i_c, t_e_c, r_si=0.13, r_se=0.04):

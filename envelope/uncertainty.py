@@ -18,9 +18,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from envelope import films, radiometry, transmittance
+from envelope.constants import T0_K
 from envelope.errors import EnvelopeWarning
-
-T0_K = 273.15
 
 
 @dataclass(frozen=True)
