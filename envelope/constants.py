@@ -11,8 +11,9 @@ from scipy import constants as _sc
 
 __all__ = ["SIGMA", "T0_K", "R_V_J_KGK", "P_ATM_PA"]
 
-SIGMA: float = 5.670374419e-8
-"""Stefan–Boltzmann constant [W m-2 K-4] (CODATA 2018, exact: 5.670374419e-8)."""
+SIGMA: float = float(_sc.Stefan_Boltzmann)
+"""Stefan–Boltzmann constant [W m-2 K-4], 2π⁵k⁴/(15h³c²) from the exact constants of the
+2019 SI (CODATA 2018 prints it rounded to 5.670374419e-8)."""
 
 T0_K: float = float(_sc.zero_Celsius)
 """0 °C in kelvin [K] (273.15, exact by definition)."""
