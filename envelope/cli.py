@@ -117,7 +117,7 @@ def inspect(
         _fail(exc)
     from .assess import survey_checks
 
-    checks = survey_checks(s)
+    checks = survey_checks(s.conditions)
     info = {"site": s.site.name, "date": s.date,
             "elements": [{"name": e.name, "kind": e.kind, "u_specified_w_m2k": e.u_specified_w_m2k}
                          for e in s.elements.values()],
@@ -165,8 +165,9 @@ def correct(
     import numpy as np
     import tifffile
 
-    from .assess import correct_thermogram
     from .outputs import staged_folder
+    from .stages.correct import correct_view
+    from .views import SurveyFolder
 
     _warn_to_stderr(quiet)
     try:
@@ -174,12 +175,13 @@ def correct(
         with staged_folder(out, replace) as tmp:
             index = []
             for t in s.thermograms:
-                cor = correct_thermogram(s, t)
+                cor = correct_view(SurveyFolder(s).open_view(t), s.elements, s.camera,
+                                   s.conditions, s.file.name)
                 tifffile.imwrite(tmp / f"{t.id}-surface-c.tif", cor.object_c.astype(np.float32),
                                  compression="zlib", metadata=None)
                 entry = {"id": t.id, "file": f"{t.id}-surface-c.tif",
                          "transmittance": float(cor.transmittance),
-                         "camera_offset_removed_k": cor.offset.value_k, "unit": "°C"}
+                         "camera_offset_k": cor.offset.value_k, "unit": "°C"}
                 if metric_cm is not None:
                     from .geometry import rectify
 
@@ -228,10 +230,10 @@ def assess(
                 s.analysis, interior_convection=convection.value))
         steps = len(s.thermograms) * 2 + len(s.series) + 2
         with _Progress(steps, quiet or json_out) as progress, staged_folder(out, replace) as tmp:
-            a = assess_survey(s, progress)
+            a = assess_survey(s, progress=progress)
             if len(a.failures) == len(s.thermograms) + len(s.series):
                 raise SurveyError("no thermogram could be assessed: " + "; ".join(
-                    f["error"] for f in a.failures))
+                    f.error for f in a.failures))
             results = write_outputs(a, tmp, progress)
     except SurveyError as exc:
         _fail(exc)
@@ -254,7 +256,7 @@ def _summary(results: dict, out: Path) -> dict:
         "elements": [{k: e.get(k) for k in ("name", "thermogram", "u_w_m2k", "u_low95_w_m2k",
                                             "u_high95_w_m2k", "u_valid", "risk", "verdict")}
                      for e in results["elements"]],
-        "defects": [{k: d.get(k) for k in ("rank", "id", "class", "element", "kwh_per_year", "risk")}
+        "defects": [{k: d.get(k) for k in ("rank", "id", "defect_class", "element", "annual_kwh", "risk")}
                     for d in results["defects"]],
         "h_w_k": hl.get("h_w_k"), "annual_kwh": hl.get("annual_kwh"),
         "failures": results["failures"],
@@ -272,8 +274,8 @@ def _print_summary(s: dict) -> None:
         typer.echo(f"  {e['name']:<26} {e['thermogram']:<22} U {u:.2f} W/(m²·K) 95 % {iv}{extra}")
     typer.echo(f"Defects ({len(s['defects'])}), ranked:")
     for d in s["defects"][:10]:
-        kwh = f"{d['kwh_per_year']:.0f} kWh/yr" if d.get("kwh_per_year") is not None else ""
-        typer.echo(f"  {d['rank']:>2}. {d['id']:<4} {d['class']:<26} {d['element']:<24} {kwh}  risk: {d['risk']}")
+        kwh = f"{d['annual_kwh']:.0f} kWh/yr" if d.get("annual_kwh") is not None else ""
+        typer.echo(f"  {d['rank']:>2}. {d['id']:<4} {d['defect_class']:<26} {d['element']:<24} {kwh}  risk: {d['risk']}")
     if s["h_w_k"] is not None:
         annual = f", about {s['annual_kwh']:.0f} kWh/yr" if s["annual_kwh"] is not None else ""
         typer.echo(f"Fabric heat-loss coefficient H = {s['h_w_k']:.1f} W/K{annual}")
@@ -314,8 +316,8 @@ def outline(
     outlines: Annotated[Path | None, typer.Option("--file", help="GeoJSON to write (default: the thermogram's outlines file).")] = None,
 ):
     """Draw element outlines and reference zones on a corrected thermogram (opens a window)."""
-    from .assess import _correct
     from .editor import run_editor
+    from .stages.correct import correct_image
     from .survey import load_pixels
 
     try:
@@ -329,7 +331,7 @@ def outline(
 
         img = load_pixels(tg.file, str(tg.file.relative_to(s.root)))
         eps = np.full(img.shape, tg.emissivity_default or 0.93, np.float32)
-        obj = _correct(s, tg, img, eps)[0]
+        obj = correct_image(img, tg, s.camera, s.conditions, eps, s.file.name)[0]
     except SurveyError as exc:
         _fail(exc)
     try:

@@ -70,7 +70,7 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
     from .results import figure_paths
 
     limit = assessment.limit_mould
-    for t in assessment.thermograms:
+    for t in assessment.views:
         tg = t.thermogram
         paths = figure_paths(tg.id, tg.side, t.status)
         if not paths:
@@ -85,7 +85,7 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
                            out_dir / paths["defects"], regions=t.regions,
                            title=f"{tg.id} — defects, numbered by rank")
         if "u_map" in paths:
-            u_map_figure(t.u_map, t.regions, out_dir / paths["u_map"],
+            u_map_figure(t.u_map_w_m2k, t.regions, out_dir / paths["u_map"],
                          title=f"{tg.id} — U per pixel ({tg.side} method)")
         if "frsi" in paths:
             frsi_figure(t.frsi, out_dir / paths["frsi"], limit=limit,
@@ -95,8 +95,10 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
             progress("figures")
     from .plots.series import series_figure
 
+    import dataclasses
+
     for sr in assessment.series:
-        series_figure(sr, out_dir / f"figures/series-{sr['id']}.png")
+        series_figure(dataclasses.asdict(sr), out_dir / f"figures/series-{sr.id}.png")
 
 
 def write_outputs(assessment, out_dir: Path, progress=None) -> dict:

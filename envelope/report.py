@@ -156,9 +156,9 @@ def measures_table(results: Mapping) -> pd.DataFrame:
     from .results import measures_table as table
 
     return table(results).rename(columns={
-        "name": "measure", "kwh_saved_per_year": "saved [kWh/yr]",
-        "kwh_saved_low": "saved low [kWh/yr]", "kwh_saved_high": "saved high [kWh/yr]",
-        "money_per_year": "money [/yr]", "co2_kg_per_year": "CO2 [kg/yr]",
+        "name": "measure", "annual_kwh_saved": "saved [kWh/yr]",
+        "annual_kwh_saved_low95": "saved low [kWh/yr]", "annual_kwh_saved_high95": "saved high [kWh/yr]",
+        "annual_money_saved": "money [/yr]", "annual_co2_saved_kg": "CO2 [kg/yr]",
         "payback_years": "payback [yr]"})
 
 
@@ -174,14 +174,14 @@ def elements_table(results: Mapping) -> pd.DataFrame:
 
 def money_range(measure: Mapping) -> tuple[float | None, float | None]:
     """Yearly money range from the kWh range and the measure's price per kWh."""
-    money, kwh = measure.get("money_per_year"), measure.get("kwh_saved_per_year")
-    lo, hi = measure.get("money_low"), measure.get("money_high")
+    money, kwh = measure.get("annual_money_saved"), measure.get("annual_kwh_saved")
+    lo, hi = measure.get("annual_money_saved_low95"), measure.get("annual_money_saved_high95")
     if is_num(lo) and is_num(hi):
         return lo, hi
     if not (is_num(money) and is_num(kwh)) or kwh == 0:
         return (money, money) if is_num(money) else (None, None)
     price = money / kwh
-    k_lo, k_hi = measure.get("kwh_saved_low"), measure.get("kwh_saved_high")
+    k_lo, k_hi = measure.get("annual_kwh_saved_low95"), measure.get("annual_kwh_saved_high95")
     return (k_lo * price if is_num(k_lo) else money, k_hi * price if is_num(k_hi) else money)
 
 
@@ -210,7 +210,7 @@ def top_fixes(results: Mapping, n: int = 3) -> list[dict]:
         targets = [str(t) for t in m.get("targets") or []]
         risky = any(defects.get(t, {}).get("risk") in ("mould", "condensation") for t in targets)
         pay = m.get("payback_years")
-        money = m.get("money_per_year")
+        money = m.get("annual_money_saved")
         return (not risky, pay if is_num(pay) else math.inf,
                 -(money if is_num(money) else -math.inf))
 

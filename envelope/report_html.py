@@ -234,12 +234,12 @@ def defects_table(results) -> Markup:
         conf = d.get("confidence") or {}
         conf_txt = ", ".join(f"{k} {v:.0%}" for k, v in conf.items() if is_num(v))
         cells = (d.get("rank"), d.get("id"), f"{d.get('element')} ({d.get('thermogram')})",
-                 f"{d.get('class') or 'n/a'}" + (f" ({conf_txt})" if conf_txt else ""),
+                 f"{d.get('defect_class') or 'n/a'}" + (f" ({conf_txt})" if conf_txt else ""),
                  f"{fmt(d.get('area_m2'), 2, 'm²')}; length {fmt(d.get('length_m'), 2, 'm')}",
                  d.get("junction") or "-",
                  f"{fmt(d.get('extra_w'), 1)} ± {fmt(d.get('extra_w_std'), 1)}",
                  fmt(d.get("psi_w_mk"), 3), fmt(d.get("chi_w_k"), 3),
-                 fmt(d.get("kwh_per_year"), 0), fmt(d.get("frsi_min"), 2),
+                 fmt(d.get("annual_kwh"), 0), fmt(d.get("frsi_min"), 2),
                  RISK_WORDS.get(str(d.get("risk")), d.get("risk") or "n/a"))
         num = {6, 7, 8, 9, 10}
         rows.append("<tr>" + "".join(f'<td class="n">{esc(c)}</td>' if k in num
@@ -261,9 +261,9 @@ def _measure_rows(results, currency):
         rows.append(results["package"])
     for m in rows:
         yield (m.get("name"), m.get("kind"), ", ".join(map(str, m.get("targets") or [])),
-               fmt(m.get("cost"), 0, currency), fmt(m.get("kwh_saved_per_year"), 0),
-               f"{fmt(m.get('kwh_saved_low'), 0)} to {fmt(m.get('kwh_saved_high'), 0)}",
-               fmt(m.get("money_per_year"), 0, currency), fmt(m.get("co2_kg_per_year"), 0),
+               fmt(m.get("cost"), 0, currency), fmt(m.get("annual_kwh_saved"), 0),
+               f"{fmt(m.get('annual_kwh_saved_low95'), 0)} to {fmt(m.get('annual_kwh_saved_high95'), 0)}",
+               fmt(m.get("annual_money_saved"), 0, currency), fmt(m.get("annual_co2_saved_kg"), 0),
                fmt(m.get("payback_years"), 1, missing="no saving"))
 
 
@@ -421,7 +421,7 @@ def builder_html(results: Mapping, image: ImageFn) -> str:
         rows.append((e.get("name"), fmt(e.get("u_w_m2k"), 2), interval(e),
                      fmt(e.get("u_specified_w_m2k"), 2), status(e.get("verdict")),
                      e.get("verdict_reason") or "", pct(e.get("coverage_share")),
-                     "; ".join(f"{d.get('id')} {d.get('class')}" for d in on_it) or "none"))
+                     "; ".join(f"{d.get('id')} {d.get('defect_class')}" for d in on_it) or "none"))
     parts = [header(results, "Insulation check"),
              Markup(f"<p>Survey validity: {n_fail} failed and {n_warn} warning checks. A "
                     "verdict is PASS only when the whole 95 % interval of the measured U "
@@ -468,12 +468,12 @@ def fix_text(item: Mapping, currency: str) -> dict[str, str]:
     where = ", ".join(str(d.get("element")) for d in defects if d.get("element"))
     if m is None:
         d = defects[0] if defects else {}
-        return {"title": f"Problem {d.get('id')}: {str(d.get('class') or '').replace('_', ' ')}",
-                "body": f"On the {d.get('element')}: about {fmt(d.get('kwh_per_year'), 0)} "
+        return {"title": f"Problem {d.get('id')}: {str(d.get('defect_class') or '').replace('_', ' ')}",
+                "body": f"On the {d.get('element')}: about {fmt(d.get('annual_kwh'), 0)} "
                         "kWh (units of energy on your bill) lost each year; "
                         f"{RISK_WORDS.get(str(d.get('risk')), 'risk not assessed')}."}
     lo, hi = money_range(m)
-    body = (f"Saves {about_range(m.get('kwh_saved_low'), m.get('kwh_saved_high'), 'kWh')} "
+    body = (f"Saves {about_range(m.get('annual_kwh_saved_low95'), m.get('annual_kwh_saved_high95'), 'kWh')} "
             f"(units of energy on your bill) a year, worth {about_range(lo, hi, currency)} a "
             f"year. Estimated cost {fmt(m.get('cost'), 0, currency)}")
     pay = m.get("payback_years")
@@ -529,7 +529,7 @@ def found_lines(results: Mapping) -> list[str]:
     if defects:
         counts: dict[str, int] = {}
         for d in defects:
-            c = str(d.get("class") or "unexplained")
+            c = str(d.get("defect_class") or "unexplained")
             counts[c] = counts.get(c, 0) + 1
         words = [f"{n} × {CLASS_WORDS.get(c, c)}" for c, n in counts.items()]
         lines.append(f"{len(defects)} problem spot(s), the riskiest first in the full report: "

@@ -13,14 +13,12 @@ from collections.abc import Callable, Mapping
 from pathlib import Path
 
 import matplotlib
+import matplotlib.image as mpimg
+from matplotlib.backends.backend_pdf import PdfPages
+from matplotlib.figure import Figure
 
-matplotlib.use("Agg")
-import matplotlib.image as mpimg  # noqa: E402
-import matplotlib.pyplot as plt  # noqa: E402
-from matplotlib.backends.backend_pdf import PdfPages  # noqa: E402
-
-from envelope.report import CAUTIONS, about_range, fmt, get, money_range, top_fixes  # noqa: E402
-from envelope.report_html import MOULD_TEXT, fix_text, found_lines  # noqa: E402
+from envelope.report import CAUTIONS, about_range, fmt, get, money_range, top_fixes
+from envelope.report_html import MOULD_TEXT, fix_text, found_lines
 
 PAGE_W_IN, PAGE_H_IN = 8.27, 11.69  # A4 portrait [in]
 MARGIN_IN = 0.75
@@ -43,7 +41,7 @@ class _Layout:
 
     def new_page(self):
         self.flush()
-        self.fig = plt.figure(figsize=(PAGE_W_IN, PAGE_H_IN))
+        self.fig = Figure(figsize=(PAGE_W_IN, PAGE_H_IN))
         self.pages += 1
         self.y = PAGE_H_IN - MARGIN_IN
         self.fig.text(0.5, 0.4 / PAGE_H_IN, f"{self.footer} - page {self.pages}",
@@ -52,7 +50,6 @@ class _Layout:
     def flush(self):
         if self.fig is not None:
             self.pdf.savefig(self.fig)
-            plt.close(self.fig)
             self.fig = None
 
     def room(self, height_in: float):
@@ -116,7 +113,7 @@ def summary_pdf(results: Mapping, path: Path,
     name = site.get("name") or "your home"
     meta = {"Title": f"Heat survey summary: {name}", "Creator": "envelope",
             "Producer": "envelope", "CreationDate": None}
-    with plt.rc_context({"pdf.fonttype": 42, "font.family": "DejaVu Sans"}), \
+    with matplotlib.rc_context({"pdf.fonttype": 42, "font.family": "DejaVu Sans"}), \
             PdfPages(path, metadata=meta) as pdf:
         doc = _Layout(pdf, f"Heat survey summary: {name}")
         doc.text("Your home's heat survey", size=20, bold=True, gap_in=0.1)

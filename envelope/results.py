@@ -1,6 +1,6 @@
 """Assessment → the versioned results dict, ``results.json`` and the CSV tables (edge).
 
-Schema ``envelope-results`` version 1: every number carries its unit in its key
+Schema ``envelope-results`` version 2 (JSON Schema in ``envelope/schema/``): every number carries its unit in its key
 (``_c`` °C, ``_k`` K, ``_m2`` m², ``_w`` W, ``_w_k`` W/K, ``_w_m2k`` W/(m²·K), ``_w_mk``
 W/(m·K), ``_kwh`` kWh, shares and rh as fractions 0–1). Keys are sorted and there are no
 timestamps, so the same survey gives a byte-identical file on every run.
@@ -18,25 +18,29 @@ import numpy as np
 from . import __version__
 
 SCHEMA = "envelope-results"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 SIGNIFICANT = 6
 
 ELEMENT_COLUMNS = (
     "name", "kind", "thermogram", "side", "area_net_m2", "emissivity", "u_w_m2k",
-    "u_std_w_m2k", "u_low95_w_m2k", "u_high95_w_m2k", "u_whole_w_m2k", "u_valid", "u_method",
-    "h_c_model", "h_c_w_m2k", "calibrated", "frsi_min", "frsi_p05", "frsi_limit_mould",
-    "frsi_limit_condensation", "risk", "t_si_design_c", "rh_si_design", "u_specified_w_m2k",
-    "verdict", "coverage_share",
+    "u_std_w_m2k", "u_low95_w_m2k", "u_high95_w_m2k", "u_whole_w_m2k", "undisturbed_share",
+    "u_valid", "u_method", "h_c_model", "h_c_w_m2k", "calibrated", "frsi_min", "frsi_p05",
+    "frsi_limit_mould", "frsi_limit_condensation", "risk", "t_si_design_c", "rh_si_design",
+    "u_specified_w_m2k", "verdict", "coverage_share",
 )
 DEFECT_COLUMNS = (
-    "rank", "id", "thermogram", "element", "class", "class_confidence", "risk", "score_text",
-    "area_m2", "length_m", "width_m", "junction", "extra_w", "extra_w_std", "psi_w_mk",
-    "chi_w_k", "incidence_factor", "kwh_per_year", "frsi_min", "frsi_p05", "reasons",
+    "rank", "id", "thermogram", "element", "defect_class", "class_confidence", "risk",
+    "score_text", "area_m2", "length_m", "width_m", "junction", "extra_w", "extra_w_std",
+    "psi_w_mk", "chi_w_k", "incidence_factor", "annual_kwh", "frsi_min", "frsi_p05", "reasons",
 )
 MEASURE_COLUMNS = (
-    "name", "kind", "targets", "cost", "kwh_saved_per_year", "kwh_saved_low", "kwh_saved_high",
-    "money_per_year", "co2_kg_per_year", "payback_years",
+    "name", "kind", "targets", "cost", "annual_kwh_saved", "annual_kwh_saved_low95",
+    "annual_kwh_saved_high95", "annual_money_saved", "annual_co2_saved_kg", "payback_years",
 )
+
+__all__ = ["SCHEMA", "SCHEMA_VERSION", "clean", "figure_paths", "to_results", "dumps",
+           "elements_table", "defects_table", "measures_table", "write_tables", "schema",
+           "validate"]
 
 
 def clean(obj):
@@ -75,6 +79,10 @@ def _limit(lim):
             "method": lim.method, "critical_rh": getattr(lim, "critical_rh", None)}
 
 
+def _budget(pairs) -> list[dict]:
+    return [{"input": k, "share": float(v)} for k, v in pairs]
+
+
 def figure_paths(tid: str, side: str, status: str) -> dict:
     """Figure files of one thermogram, relative to the output folder."""
     if status == "failed":
@@ -89,41 +97,72 @@ def figure_paths(tid: str, side: str, status: str) -> dict:
     return paths
 
 
+def _element(e, a) -> dict:
+    d = dataclasses.asdict(e)
+    d["checks"] = [_check(ch) for ch in e.checks]
+    d["budget"] = _budget(e.budget)
+    d["frsi_limit_mould"] = a.limit_mould.value if a.limit_mould else None
+    d["frsi_limit_condensation"] = a.limit_condensation.value if a.limit_condensation else None
+    return d
+
+
+def _view(v, root) -> dict:
+    tg, cv = v.thermogram, v.corrected
+    try:
+        file = tg.file.resolve().relative_to(Path(root).resolve()).as_posix()
+    except (ValueError, OSError):
+        file = str(tg.file)
+    return {
+        "id": tg.id, "side": tg.side, "file": file, "status": v.status, "error": v.error,
+        "paired_with": v.paired_with,
+        "transmittance": None if cv is None else cv.transmittance,
+        "atmosphere_c": None if cv is None else cv.atmosphere_c,
+        "reflected_c": tg.reflected_c if cv is None else cv.thermogram.reflected_c,
+        "camera_offset_k": None if cv is None else cv.offset.value_k,
+        "camera_offset_source": None if cv is None else (cv.offset.source or None),
+        "view_angle_deg": tg.view_angle_deg, "distance_m": tg.distance_m,
+        "scale": None if cv is None else {
+            "method": cv.homography.method, "rms_error_m": cv.homography.rms_error_m,
+            "fronto_parallel_assumed": cv.homography.fronto_parallel_assumed},
+        "figures": figure_paths(tg.id, tg.side, v.status),
+        "checks": [_check(ch) for ch in v.checks],
+    }
+
+
+def _series(s) -> dict:
+    d = dataclasses.asdict(s)
+    d["checks"] = [_check(ch) for ch in s.checks]
+    d["budget"] = _budget(s.budget)
+    d["figure"] = f"figures/series-{s.id}.png"
+    return d
+
+
+def _heat_loss(energy) -> dict | None:
+    b = energy.balance
+    if b is None:
+        return None
+    d = b.heat_loss.to_dict()
+    d.update(q_survey_w=b.q_survey_w, q_design_w=b.q_design_w, design_indoor_c=b.design_indoor_c,
+             design_outdoor_c=b.design_outdoor_c, hdd_kd=b.hdd_kd, annual_kwh=b.annual_kwh,
+             annual_kwh_std=b.annual_kwh_std)
+    return d
+
+
+_DEFECT_KEYS = {"class": "defect_class", "kwh_per_year": "annual_kwh",
+                "score_energy_kwh_per_year": "score_annual_kwh"}
+
+
+def _defect(d: dict) -> dict:
+    return {_DEFECT_KEYS.get(k, k): v for k, v in d.items()}
+
+
 def to_results(a) -> dict:
-    """The results dict (schema version 1) of an `assess.Assessment`."""
-    from .defects import defect_to_dict
+    """The results dict (schema version 2) of an `assess.Assessment`."""
+    from envelope.defects import defect_to_dict
 
     s = a.survey
     c = s.conditions
-    elements = []
-    for e in a.elements:
-        d = dataclasses.asdict(e)
-        d["checks"] = [_check(ch) for ch in e.checks]
-        d["frsi_limit_mould"] = a.limit_mould.value if a.limit_mould else None
-        d["frsi_limit_condensation"] = a.limit_condensation.value if a.limit_condensation else None
-        elements.append(d)
-    thermograms = []
-    for t in a.thermograms:
-        tg = t.thermogram
-        thermograms.append({
-            "id": tg.id, "side": tg.side, "file": tg.file.relative_to(s.root).as_posix(),
-            "status": t.status, "error": t.error, "paired_with": t.paired_with,
-            "transmittance": t.transmittance, "reflected_c": tg.reflected_c,
-            "camera_offset_removed_k": None if t.offset is None else t.offset.value_k,
-            "camera_offset_source": None if t.offset is None else (t.offset.source or None),
-            "view_angle_deg": tg.view_angle_deg, "distance_m": tg.distance_m,
-            "scale": None if t.homography is None else {
-                "method": t.homography.method, "rms_error_m": t.homography.rms_error_m,
-                "fronto_parallel_assumed": t.homography.fronto_parallel_assumed},
-            "figures": figure_paths(tg.id, tg.side, t.status),
-            "checks": [_check(ch) for ch in t.checks],
-        })
-    series = []
-    for sr in a.series:
-        d = dict(sr)
-        d["checks"] = [_check(ch) for ch in sr["checks"]]
-        d["figure"] = f"figures/series-{sr['id']}.png"
-        series.append(d)
+    en = a.energy
     out = {
         "schema": SCHEMA, "schema_version": SCHEMA_VERSION, "tool_version": __version__,
         "survey": {
@@ -141,19 +180,37 @@ def to_results(a) -> dict:
         },
         "checks": [_check(ch) for ch in a.checks],
         "frsi_limit": {"mould": _limit(a.limit_mould), "condensation": _limit(a.limit_condensation)},
-        "thermograms": thermograms,
-        "elements": elements,
-        "defects": [defect_to_dict(d) for d in a.defects],
-        "heat_loss": None if a.heat_loss is None else {
-            k: v for k, v in a.heat_loss.items() if k != "after_measures"},
-        "heat_loss_after": None if a.heat_loss is None else a.heat_loss.get("after_measures"),
-        "measures": a.measures,
-        "package": a.package,
-        "series": series,
-        "failures": a.failures,
+        "thermograms": [_view(v, s.root) for v in a.views],
+        "elements": [_element(e, a) for e in a.elements],
+        "defects": [_defect(defect_to_dict(d)) for d in a.defects],
+        "heat_loss": _heat_loss(en),
+        "heat_loss_after": None if en.after is None else en.after.to_dict(),
+        "measures": [m.to_dict() for m in en.measures],
+        "package": None if en.package is None else en.package.to_dict(),
+        "series": [_series(sr) for sr in a.series],
+        "failures": [{"thermogram": f.what, "file": f.file, "error": f.error}
+                     for f in a.failures],
         "notes": list(a.notes),
     }
     return clean(out)
+
+
+def schema() -> dict:
+    """The JSON Schema (draft 2020-12) of ``results.json``, shipped in the package."""
+    from importlib import resources
+
+    text = resources.files("envelope").joinpath("schema/results.schema.json").read_text("utf-8")
+    return json.loads(text)
+
+
+def validate(results: dict) -> list[str]:
+    """Problems of a results dict against the schema, as ``"$.path: message"`` lines
+    (empty when valid). Uses jsonschema."""
+    import jsonschema
+
+    validator = jsonschema.Draft202012Validator(schema())
+    return [f"{e.json_path}: {e.message[:200]}" for e in
+            sorted(validator.iter_errors(results), key=lambda e: list(e.path))]
 
 
 def dumps(results: dict) -> str:

@@ -83,19 +83,19 @@ def test_planted_defects_found_and_classed(run):
         hits = [d for d in found if d["thermogram"] == tid and d["element"] == planted["element"]
                 and _inside(d["centroid_px"], planted["bbox_px"])]
         assert hits, planted["id"]
-        right += any(d["class"] == planted["class"] for d in hits)
+        right += any(d["defect_class"] == planted["class"] for d in hits)
     assert right >= 4  # the issue asks for at least 4 of 5 classes right
     # the glossy splashback mirrors a radiator: not a wall defect, or "unexplained" with a note
     refl = truth["reflection"]
     for d in found:
         if d["thermogram"] == refl["thermogram"] and _inside(d["centroid_px"], refl["bbox_px"], 0):
-            assert d["class"] == "unexplained" and any("reflection" in n for n in d["notes"])
+            assert d["defect_class"] == "unexplained" and any("reflection" in n for n in d["notes"])
 
 
 def test_junction_psi_within_its_uncertainty(run):
     _, r, truth = run
     planted = next(d for d in truth["defects"] if d["class"] == "linear thermal bridge")
-    d = next(x for x in r["defects"] if x["class"] == "linear thermal bridge"
+    d = next(x for x in r["defects"] if x["defect_class"] == "linear thermal bridge"
              and x["element"] == planted["element"])
     psi_true = planted["psi_w_mk"]
     u_psi = d["psi_w_mk"] * d["extra_w_std"] / d["extra_w"]
@@ -116,9 +116,9 @@ def test_builder_verdicts_and_retrofit_case(run):
     _, r, _ = run
     specified = [e for e in r["elements"] if e["u_specified_w_m2k"] is not None]
     assert specified and all(e["verdict"] in ("pass", "fail", "inconclusive") for e in specified)
-    assert r["package"]["kwh_saved_per_year"] > 0
-    singles = sum(m["kwh_saved_per_year"] for m in r["measures"])
-    assert r["package"]["kwh_saved_per_year"] <= singles * (1 + 1e-5)  # results keep 6 digits
+    assert r["package"]["annual_kwh_saved"] > 0
+    singles = sum(m["annual_kwh_saved"] for m in r["measures"])
+    assert r["package"]["annual_kwh_saved"] <= singles * (1 + 1e-5)  # results keep 6 digits
 
 
 def test_series_interval_holds_the_average_method_truth(run):

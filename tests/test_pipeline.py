@@ -38,7 +38,7 @@ def test_every_output_written_and_truth_inside_interval(survey_dir, tmp_path):
     for name in OUTPUTS:
         assert (out / name).stat().st_size > 0, name
     r = json.loads((out / "results.json").read_text())
-    assert r["schema"] == "envelope-results" and r["schema_version"] == 1
+    assert r["schema"] == "envelope-results" and r["schema_version"] == 2
     els = {e["name"]: e for e in r["elements"]}
     # truth of the synthetic scene (conftest): wall 0.5, window 2.8 W/m2K
     for name, truth in (("test-wall", U_WALL), ("test-window", U_WINDOW)):
@@ -49,7 +49,7 @@ def test_every_output_written_and_truth_inside_interval(survey_dir, tmp_path):
     assert els["test-wall"]["verdict"] in ("pass", "fail", "inconclusive")
     for fig in r["thermograms"][0]["figures"].values():
         assert (out / fig).is_file(), fig
-    assert r["heat_loss"]["h_w_k"] > 0 and r["measures"][0]["kwh_saved_per_year"] > 0
+    assert r["heat_loss"]["h_w_k"] > 0 and r["measures"][0]["annual_kwh_saved"] > 0
 
 
 def test_results_byte_identical_on_rerun(survey_dir, tmp_path):
@@ -183,13 +183,16 @@ uncertainty_k = 0.1
 
 def test_probe_removes_the_camera_offset_from_the_whole_image(tmp_path):
     from envelope import assess, synth
+    from envelope.stages.correct import correct_view
     from envelope.survey import load_survey
+    from envelope.views import SurveyFolder
 
     # conftest renders the scene with a +0.3 K camera offset; the probe reads the true wall
     t_wall = float(synth.surface_temperature_for_u(0.5, 21.0, 1.0, 20.0, 0.93, 2.5))
     root = write_survey(tmp_path / "s", _with_probe(SURVEY_TOML, round(t_wall, 3)))
     s = load_survey(root)
-    cor = assess.correct_thermogram(s, s.thermograms[0])
+    cor = correct_view(SurveyFolder(s).open_view(s.thermograms[0]), s.elements, s.camera,
+                       s.conditions)
     obj, offset = cor.object_c, cor.offset
     assert offset.value_k == pytest.approx(0.3, abs=0.05)      # planted offset (conftest)
     # the probe patch is 3 × 3 px of 0.05 K noise (0.017 K of its mean), amplified by 1/ε in
@@ -203,8 +206,8 @@ def test_probe_removes_the_camera_offset_from_the_whole_image(tmp_path):
                  if e.name == "test-wall")
     # (the reflected temperature, ±1 K by default, stays the largest input of this survey)
     assert (wall.u_high95_w_m2k - wall.u_low95_w_m2k) < 0.8 * (plain.u_high95_w_m2k - plain.u_low95_w_m2k)
-    assert "camera_absolute" not in {b["input"] for b in wall.budget}
-    assert max(plain.budget, key=lambda b: b["share"])["input"] in ("camera_absolute", "reflected")
+    assert "camera_absolute" not in {name for name, _ in wall.budget}
+    assert max(plain.budget, key=lambda b: b[1])[0] in ("camera_absolute", "reflected")
     assert wall.u_low95_w_m2k <= U_WALL <= wall.u_high95_w_m2k
 
 
@@ -222,17 +225,17 @@ def test_survey_camera_offset_and_measured_area(tmp_path):
 
 
 def test_repair_defect_measure_removes_the_defect_loss():
-    from envelope import energy
+    from envelope import energy, retrofit
 
     # hand arithmetic: a wall of U 0.3 on 10 m² (3 W/K) with a 1.2 W/K patch of missing
     # insulation; making the patch good saves 1.2 W/K × 2000 K·day × 24 h / 1000 = 57.6 kWh
     # of heat a year, / 0.9 efficiency = 64 kWh delivered, × 0.1 /kWh = 6.4 a year
     els = [("w", 0.3, 0.0, 10.0)]
     dfs = [energy.DefectLoss("D1", 1.2, 0.0, "point")]
-    m = energy.Measure("refit", "repair_defect", defects=("D1",), cost=64.0)
-    (r,) = energy.evaluate_measures([m], els, dfs, energy.EnergyPrices(0.1, 0.9, 0.2), 2000.0)
-    assert r.kwh_saved_per_year == pytest.approx(64.0)
-    assert r.money_per_year == pytest.approx(6.4) and r.payback_years == pytest.approx(10.0)
+    m = retrofit.Measure("refit", "repair_defect", defects=("D1",), cost=64.0)
+    (r,) = retrofit.evaluate_measures([m], els, dfs, retrofit.EnergyPrices(0.1, 0.9, 0.2), 2000.0)
+    assert r.annual_kwh_saved == pytest.approx(64.0)
+    assert r.annual_money_saved == pytest.approx(6.4) and r.payback_years == pytest.approx(10.0)
 
 
 def test_reflected_read_with_the_same_camera_gets_the_offset_removed(tmp_path):
@@ -251,7 +254,7 @@ def test_reflected_read_with_the_same_camera_gets_the_offset_removed(tmp_path):
     u_ref = next(e for e in ref.elements if e.name == "test-wall").u_w_m2k
     u_cam = next(e for e in cam.elements if e.name == "test-wall").u_w_m2k
     # the offset comes from a 3 × 3 px probe patch of 0.05 K noise: ±0.06 K is ~3 sigma
-    assert cam.thermograms[0].thermogram.reflected_c == pytest.approx(20.0, abs=0.06)
+    assert cam.views[0].corrected.thermogram.reflected_c == pytest.approx(20.0, abs=0.06)
     assert u_cam == pytest.approx(u_ref, abs=0.02)
 
 

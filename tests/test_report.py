@@ -177,7 +177,7 @@ def test_survey_strings_are_escaped(tmp_path):
 
 
 def test_reports_cope_with_a_sparse_survey(tmp_path):
-    results = {"schema": "envelope-results", "schema_version": 1, "survey": {},
+    results = {"schema": "envelope-results", "schema_version": 2, "survey": {},
                "elements": None, "defects": [], "heat_loss": None, "measures": None}
     paths = write_reports(results, tmp_path, tmp_path / "figures")
     assert "No element has a specified U" in text_of(paths["check"])
@@ -204,7 +204,8 @@ def test_measures_table_and_about_range():
 
 
 def test_charts_accept_energy_dataclasses(tmp_path):
-    from envelope.energy import EnergyPrices, Measure, evaluate_measures, heat_loss_coefficient
+    from envelope.energy import heat_loss_coefficient
+    from envelope.retrofit import EnergyPrices, Measure, evaluate_measures
     from envelope.plots.energy import heat_loss_chart, savings_chart
 
     walls = [("wall", 1.5, 0.1, 40.0), ("roof", 0.6, 0.05, 30.0)]

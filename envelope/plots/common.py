@@ -7,17 +7,23 @@ from __future__ import annotations
 
 from pathlib import Path
 
-import matplotlib
-
-matplotlib.use("Agg")
-import matplotlib.pyplot as plt  # noqa: E402
-import numpy as np  # noqa: E402
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
 
 TEMPERATURE_CMAP = "inferno"
 """Surface temperature maps [°C]."""
 FACTOR_CMAP = "viridis"
 """Temperature-factor (fRsi) and U maps."""
 DPI = 110
+
+
+def new_figure(figsize, layout=None, **subplot_kw):
+    """A figure with one axes on the Agg canvas, without pyplot: no global backend is
+    switched and no figure is kept alive by a figure manager (safe in notebooks)."""
+    fig = Figure(figsize=figsize, dpi=DPI, layout=layout)
+    FigureCanvasAgg(fig)
+    return fig, fig.add_subplot(**subplot_kw)
 
 
 def robust_limits(values, lo_pct: float = 1.0, hi_pct: float = 99.0,
@@ -66,7 +72,7 @@ def image_axes(image, *, cmap=TEMPERATURE_CMAP, label="Surface temperature [°C]
         lo, hi = robust_limits(image)
         vmin = lo if vmin is None else vmin
         vmax = hi if vmax is None else vmax
-    fig, ax = plt.subplots(figsize=figsize, dpi=DPI)
+    fig, ax = new_figure(figsize=figsize)
     fig.subplots_adjust(left=0.09, right=0.88, bottom=0.09, top=0.93)
     im = ax.imshow(image, cmap=cmap, vmin=vmin, vmax=vmax, interpolation="nearest")
     cbar = fig.colorbar(im, ax=ax, fraction=0.046, pad=0.03)
@@ -85,5 +91,4 @@ def save(fig, path: str | Path) -> Path:
     # one draw (no bbox_inches="tight", which draws twice) and light PNG compression: the
     # figures of a survey are written in a few seconds
     fig.savefig(path, dpi=DPI, metadata={"Software": None}, pil_kwargs={"compress_level": 2})
-    plt.close(fig)
     return path

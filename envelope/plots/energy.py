@@ -5,10 +5,10 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from pathlib import Path
 
-import matplotlib.pyplot as plt
 import numpy as np
+from matplotlib import colormaps
 
-from envelope.plots.common import DPI, save
+from envelope.plots.common import new_figure, save
 
 
 def _as_mapping(obj) -> Mapping:
@@ -33,8 +33,8 @@ def savings_chart(measures: Sequence, path: str | Path, currency: str = "") -> P
     Parameters
     ----------
     measures : sequence of mapping or MeasureResult
-        Keys ``name``, ``kwh_saved_per_year``, ``kwh_saved_low``, ``kwh_saved_high``,
-        ``money_per_year``.
+        Keys ``name``, ``annual_kwh_saved``, ``annual_kwh_saved_low95``, ``annual_kwh_saved_high95``,
+        ``annual_money_saved``.
     path : path
         PNG to write.
     currency : str
@@ -45,26 +45,26 @@ def savings_chart(measures: Sequence, path: str | Path, currency: str = "") -> P
     Path
     """
     rows = [_as_mapping(m) for m in measures]
-    rows = sorted(rows, key=lambda m: _num(m.get("kwh_saved_per_year")))
+    rows = sorted(rows, key=lambda m: _num(m.get("annual_kwh_saved")))
     n = max(len(rows), 1)
-    fig, ax = plt.subplots(figsize=(7.5, 1.2 + 0.55 * n), dpi=DPI, layout="tight")
+    fig, ax = new_figure((7.5, 1.2 + 0.55 * n), layout="tight")
     if not rows:
         ax.text(0.5, 0.5, "no measures proposed", ha="center", va="center",
                 transform=ax.transAxes)
         ax.set_axis_off()
         return save(fig, path)
     y = np.arange(len(rows))
-    kwh = np.array([_num(m.get("kwh_saved_per_year")) for m in rows])
-    lo = np.array([_num(m.get("kwh_saved_low"), k) for m, k in zip(rows, kwh, strict=True)])
-    hi = np.array([_num(m.get("kwh_saved_high"), k) for m, k in zip(rows, kwh, strict=True)])
-    colours = plt.get_cmap("cividis")(np.linspace(0.25, 0.85, len(rows)))
+    kwh = np.array([_num(m.get("annual_kwh_saved")) for m in rows])
+    lo = np.array([_num(m.get("annual_kwh_saved_low95"), k) for m, k in zip(rows, kwh, strict=True)])
+    hi = np.array([_num(m.get("annual_kwh_saved_high95"), k) for m, k in zip(rows, kwh, strict=True)])
+    colours = colormaps["cividis"](np.linspace(0.25, 0.85, len(rows)))
     ax.barh(y, kwh, color=colours, edgecolor="black", linewidth=0.5)
     err = np.vstack([np.clip(kwh - lo, 0, None), np.clip(hi - kwh, 0, None)])
     ax.errorbar(kwh, y, xerr=err, fmt="none", ecolor="black", capsize=4, linewidth=1)
     ax.set_yticks(y, [str(m.get("name", "")) for m in rows])
     span = max(float(np.max(hi)), float(np.max(kwh)), 1.0)
     for yi, m, h in zip(y, rows, hi, strict=True):
-        money = m.get("money_per_year")
+        money = m.get("annual_money_saved")
         label = f"{_num(money):,.0f} {currency}/yr" if money is not None else ""
         ax.text(max(h, 0) + 0.02 * span, yi, label, va="center", fontsize=9)
     ax.set_xlim(min(0.0, float(np.min(lo)) * 1.1), span * 1.3)
@@ -107,8 +107,8 @@ def heat_loss_chart(heat_loss_before, heat_loss_after, path: str | Path) -> Path
     if heat_loss_after is not None:
         states.append(("after all measures", _parts(_as_mapping(heat_loss_after))))
     names = list(dict.fromkeys(k for _, p in states for k in p))
-    colours = plt.get_cmap("viridis")(np.linspace(0.05, 0.95, len(names)))
-    fig, ax = plt.subplots(figsize=(7.5, 1.8 + 0.9 * len(states)), dpi=DPI, layout="tight")
+    colours = colormaps["viridis"](np.linspace(0.05, 0.95, len(names)))
+    fig, ax = new_figure((7.5, 1.8 + 0.9 * len(states)), layout="tight")
     y = np.arange(len(states))[::-1]
     left = np.zeros(len(states))
     for name, colour in zip(names, colours, strict=True):

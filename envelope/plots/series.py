@@ -4,10 +4,9 @@ from __future__ import annotations
 
 from pathlib import Path
 
-import matplotlib.pyplot as plt
 import numpy as np
 
-from envelope.plots.common import DPI, save
+from envelope.plots.common import new_figure, save
 
 
 def series_figure(series: dict, path: str | Path) -> Path:
@@ -23,7 +22,7 @@ def series_figure(series: dict, path: str | Path) -> Path:
     """
     t = np.asarray(series.get("times_h") or [], dtype=float)
     u = np.asarray(series.get("u_running_w_m2k") or [], dtype=float)
-    fig, ax = plt.subplots(figsize=(7.0, 3.4), dpi=DPI, layout="tight")
+    fig, ax = new_figure((7.0, 3.4), layout="tight")
     ax.plot(t, u, color="#3b528b", marker="o", ms=3, lw=1.4, label="running U (average method)")
     final = series.get("u_w_m2k")
     lo, hi = series.get("u_low95_w_m2k"), series.get("u_high95_w_m2k")

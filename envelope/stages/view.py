@@ -1,0 +1,142 @@
+"""Stage: everything one thermogram gives — flux, defects, undisturbed areas, element results.
+
+Order (SPEC §2): corrected view → surface heat flux → fRsi → defects (against the
+element's reference level) → each element's undisturbed area (`zones.undisturbed_mask`)
+→ U over it (Monte Carlo) and over the whole area → condensation / mould verdict.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import replace
+
+import numpy as np
+from scipy import ndimage
+
+from envelope import defects as defects_mod
+from envelope import zones
+from envelope.outlines import rasterise
+from envelope.stages.data import CorrectedView, SurfaceFlux, ViewResult
+from envelope.stages.elements import DesignConditions, element_result, frsi_map, surface_flux
+from envelope.stages.risk import element_risk
+from envelope.survey import Analysis, Camera, Conditions, Element
+
+__all__ = ["H_C_BAND", "defect_relative_uncertainty", "view_defects", "assess_view"]
+
+H_C_BAND = 0.2
+"""Half-width of the rectangular model uncertainty of h_c (as in `uncertainty.UInputs`)."""
+
+
+def defect_relative_uncertainty(contrast_k: float, relative_accuracy_k: float,
+                                h_c_band: float = H_C_BAND) -> float:
+    """Relative standard uncertainty of a defect's extra heat flow [-].
+
+    The extra heat flow is measured against the undisturbed area of the same image, so the
+    camera's absolute error cancels; what is left is the film coefficient's model
+    uncertainty (±`h_c_band` rectangular: band/√3) and the camera's relative accuracy on the
+    temperature contrast, taken conservatively against the undisturbed area's surface–air
+    difference `contrast_k` (rectangular ±a, √2 for a difference of two readings).
+    """
+    u_t = math.sqrt(2.0) * relative_accuracy_k / math.sqrt(3.0)
+    u_h = h_c_band / math.sqrt(3.0)
+    return math.sqrt(u_h**2 + (u_t / max(abs(contrast_k), 0.5)) ** 2)
+
+
+def _is_warm(d) -> bool:
+    return d.defect_class == "unexplained" and defects_mod.WARM_NOTE in d.notes
+
+
+def view_defects(cv: CorrectedView, flux: SurfaceFlux, frsi, conditions: Conditions,
+                 camera: Camera, analysis: Analysis, hdd_kd: float, limits, pair=None) -> list:
+    """Defects of one view (interior: cold anomalies of fRsi; exterior: warm ones)."""
+    c = conditions
+    dt = c.indoor_air_c - c.outdoor_air_c
+    air = c.indoor_air_c if cv.side == "interior" else c.outdoor_air_c
+    u_rel = {}
+    for name, reg in cv.regions.items():
+        zone = reg.reference_mask if reg.reference_mask is not None and reg.reference_mask.any() \
+            else reg.mask
+        m = zone & np.isfinite(cv.object_c)
+        contrast = abs(float(np.mean(cv.object_c[m])) - air) if m.any() else 0.0
+        u_rel[name] = defect_relative_uncertainty(contrast, camera.relative_accuracy_k)
+    settings = defects_mod.DefectSettings(delta_f=analysis.defect_threshold,
+                                          min_area_m2=analysis.defect_min_area_m2)
+    lim = tuple(x.value if x is not None else None for x in limits)
+    return defects_mod.find_defects(
+        cv.object_c, frsi, flux.q_w_m2, cv.area_map_m2, cv.regions, cv.side, dt, hdd_kd,
+        limits=lim, settings=settings, pair=pair, u_rel_std=u_rel,
+        thermogram_id=cv.thermogram.id)
+
+
+def _defect_zone(d, element_mask, area_map_m2) -> np.ndarray:
+    """The pixels a defect's extra heat was integrated over: its own ``zone_mask`` when the
+    defect carries one, else its outline widened by its integration band ``band_m``."""
+    zone = getattr(d, "zone_mask", None)
+    if zone is not None:
+        return zone
+    shape = element_mask.shape
+    if d.polygon is None:
+        return np.zeros(shape, bool)
+    own = rasterise(d.polygon, shape)
+    band_m = getattr(d, "band_m", 0.0) or 0.0
+    if band_m > 0 and own.any():
+        pixel_m = math.sqrt(float(np.median(area_map_m2[own])))
+        band_px = int(math.ceil(band_m / pixel_m)) if pixel_m > 0 else 0
+        if band_px > 0:
+            own = ndimage.distance_transform_edt(~own) <= band_px
+    return own & element_mask
+
+
+def assess_view(cv: CorrectedView, elements: Mapping[str, Element], conditions: Conditions,
+                camera: Camera, analysis: Analysis, limits, design: DesignConditions,
+                hdd_kd: float, survey_checks, pair=None,
+                survey_file: str = "survey.toml") -> ViewResult:
+    """One corrected view → its `ViewResult` (element results and defects).
+
+    Parameters
+    ----------
+    cv : CorrectedView
+    elements : mapping of str to Element
+    conditions, camera, analysis
+        Survey inputs.
+    limits : (FrsiLimit or None, FrsiLimit or None)
+        Mould and condensation limits.
+    design : DesignConditions
+    hdd_kd : float
+        Heating degree-days [K·day] (NaN when unknown).
+    survey_checks : sequence of Check
+    pair : (ndarray, float), optional
+        Depressurised image of the same view [°C] and its pressure difference [Pa].
+    """
+    c = conditions
+    dt = c.indoor_air_c - c.outdoor_air_c
+    flux = surface_flux(cv, elements, c, analysis)
+    frsi = frsi_map(cv, c)
+    found = view_defects(cv, flux, frsi, c, camera, analysis, hdd_kd, limits, pair)
+    results, kept = [], {}
+    for name, reg in cv.regions.items():
+        on_el = [d for d in found if d.element == name]
+        warm = [_defect_zone(d, reg.mask, cv.area_map_m2) for d in on_el if _is_warm(d)]
+        cold = [_defect_zone(d, reg.mask, cv.area_map_m2) for d in on_el if not _is_warm(d)]
+        undisturbed, zone_name = zones.undisturbed_mask(reg.mask, reg.reference_mask, cold, warm)
+        kept[name] = undisturbed
+        whole = zones.whole_area_mask(reg.mask, warm)
+        notes = ()
+        if warm:
+            notes = (f"whole-area U leaves out {len(warm)} warm spot"
+                     f"{'s' if len(warm) > 1 else ''} (likely reflection or heat source)",)
+        res = element_result(cv, flux, elements[name], undisturbed, whole, zone_name, c, camera,
+                             analysis, survey_checks, survey_file, notes)
+        if cv.side == "interior":
+            vals = frsi[reg.mask & np.isfinite(frsi)]
+            res = element_risk(res, vals, limits, design,
+                               [d.risk for d in on_el if not _is_warm(d)])
+        bad = sum(d.area_m2 for d in on_el if d.defect_class != "unexplained")
+        share = max(0.0, 1.0 - bad / reg.area_m2) if reg.area_m2 > 0 else None
+        results.append(replace(res, coverage_share=share))
+    u_map = np.where(np.isfinite(flux.q_w_m2), flux.q_w_m2 / dt, np.nan).astype(np.float32)
+    return ViewResult(cv.thermogram, "assessed", corrected=cv,
+                      frsi=frsi if cv.side == "interior" else None, u_map_w_m2k=u_map,
+                      elements=tuple(results), defects=tuple(found), checks=cv.checks,
+                      undisturbed=kept)
