@@ -148,3 +148,25 @@ def write_survey(root: Path, toml_text: str = SURVEY_TOML, pixels=None, outlines
 @pytest.fixture
 def survey_dir(tmp_path) -> Path:
     return write_survey(tmp_path / "survey")
+
+
+HOUSE = Path(__file__).resolve().parents[1] / "example_house"
+
+
+@pytest.fixture(scope="session")
+def demo_run(tmp_path_factory):
+    """The README's main command on example_house/, run once for the whole test session:
+    ``(out_dir, results, truth)``; results.json is checked against the shipped schema."""
+    from typer.testing import CliRunner
+
+    from envelope.cli import app
+    from envelope.results import validate
+
+    out = tmp_path_factory.mktemp("demo") / "out"
+    res = CliRunner().invoke(app, ["assess", str(HOUSE), "--out", str(out), "--quiet",
+                                   "--draws", "5000"])
+    assert res.exit_code == 0, res.output
+    results = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    assert validate(results) == []
+    truth = json.loads((HOUSE / "truth.json").read_text(encoding="utf-8"))
+    return out, results, truth

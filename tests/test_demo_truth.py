@@ -7,28 +7,17 @@ itself reports (consistency, not an outside reference).
 
 from __future__ import annotations
 
-import json
-from pathlib import Path
-
 import pytest
-from typer.testing import CliRunner
 
-from envelope.cli import app
+pytestmark = pytest.mark.slow  # runs whole surveys (quick loop: pytest -m 'not slow')
 
-HOUSE = Path(__file__).resolve().parents[1] / "example_house"
 OUTPUTS = ("results.json", "elements.csv", "defects.csv", "measures.csv", "report.html",
            "check.html", "summary.html", "summary.pdf")
 
 
 @pytest.fixture(scope="module")
-def run(tmp_path_factory):
-    out = tmp_path_factory.mktemp("demo") / "out"
-    res = CliRunner().invoke(app, ["assess", str(HOUSE), "--out", str(out), "--quiet",
-                                   "--draws", "5000"])
-    assert res.exit_code == 0, res.output
-    results = json.loads((out / "results.json").read_text(encoding="utf-8"))
-    truth = json.loads((HOUSE / "truth.json").read_text(encoding="utf-8"))
-    return out, results, truth
+def run(demo_run):
+    return demo_run
 
 
 def test_every_output_and_figure_written(run):

@@ -21,6 +21,8 @@ import tifffile
 from envelope import geometry
 from envelope.survey import load_pixels, load_survey
 
+pytestmark = pytest.mark.slow  # runs whole surveys (quick loop: pytest -m 'not slow')
+
 ROOT = Path(__file__).resolve().parents[1]
 HOUSE = ROOT / "example_house"
 TEXT_SUFFIXES = {".toml", ".json", ".geojson", ".csv"}

@@ -20,6 +20,9 @@ from conftest import SURVEY_TOML, U_WALL, U_WINDOW, readings, write_survey
 from typer.testing import CliRunner
 
 from envelope.cli import app
+from envelope.results import validate
+
+pytestmark = pytest.mark.slow  # runs whole surveys (quick loop: pytest -m 'not slow')
 
 runner = CliRunner()
 
@@ -39,6 +42,7 @@ def test_every_output_written_and_truth_inside_interval(survey_dir, tmp_path):
         assert (out / name).stat().st_size > 0, name
     r = json.loads((out / "results.json").read_text())
     assert r["schema"] == "envelope-results" and r["schema_version"] == 2
+    assert validate(r) == []
     els = {e["name"]: e for e in r["elements"]}
     # truth of the synthetic scene (conftest): wall 0.5, window 2.8 W/m2K
     for name, truth in (("test-wall", U_WALL), ("test-window", U_WINDOW)):

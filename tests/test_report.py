@@ -205,8 +205,8 @@ def test_measures_table_and_about_range():
 
 def test_charts_accept_energy_dataclasses(tmp_path):
     from envelope.energy import heat_loss_coefficient
-    from envelope.retrofit import EnergyPrices, Measure, evaluate_measures
     from envelope.plots.energy import heat_loss_chart, savings_chart
+    from envelope.retrofit import EnergyPrices, Measure, evaluate_measures
 
     walls = [("wall", 1.5, 0.1, 40.0), ("roof", 0.6, 0.05, 30.0)]
     ms = [Measure("lining", "add_layer", elements=("wall",), thickness_m=0.05,

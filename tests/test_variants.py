@@ -13,6 +13,8 @@ from typer.testing import CliRunner
 
 from envelope.cli import app
 
+pytestmark = pytest.mark.slow  # runs whole surveys (quick loop: pytest -m 'not slow')
+
 CLIMATE = SURVEY_TOML[SURVEY_TOML.index("[climate]"): SURVEY_TOML.index("[prices]")]
 PRICES = SURVEY_TOML[SURVEY_TOML.index("[prices]"): SURVEY_TOML.index("[analysis]")]
 MEASURES = SURVEY_TOML[SURVEY_TOML.index("[[measures]]"):]

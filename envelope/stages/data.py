@@ -99,8 +99,9 @@ class ElementResult:
 
     ``u_w_m2k`` is the U of the element's undisturbed area (its reference zone, or the
     element without the zones of its defects); ``u_whole_w_m2k`` the area-weighted U over
-    the whole net area, defects included (the element as built). Intervals are 95 %
-    (JCGM 101); ``_std`` marks a standard uncertainty.
+    the whole net area, defects included (the element as built), with its own Monte Carlo
+    interval (``u_whole_low95_w_m2k``...). Intervals are 95 % (JCGM 101); ``_std`` marks a
+    standard uncertainty. ``verdict`` judges the U named by ``verdict_basis``.
     """
 
     name: str
@@ -116,6 +117,9 @@ class ElementResult:
     u_low95_w_m2k: float
     u_high95_w_m2k: float
     u_whole_w_m2k: float
+    u_whole_std_w_m2k: float | None
+    u_whole_low95_w_m2k: float | None
+    u_whole_high95_w_m2k: float | None
     undisturbed_share: float
     undisturbed_zone: str
     u_method: str
@@ -135,6 +139,7 @@ class ElementResult:
     u_specified_w_m2k: float | None = None
     verdict: str | None = None
     verdict_reason: str = ""
+    verdict_basis: str | None = None
     coverage_share: float | None = None
     checks: tuple[Check, ...] = ()
 

@@ -198,21 +198,27 @@ def element_result(cv: CorrectedView, flux: SurfaceFlux, element: Element, undis
         # the offset is removed from the image: what is left of the camera's absolute error is
         # the reference's uncertainty (as a rectangular half-width of equal variance)
         accuracy = offset.std_k * math.sqrt(3.0)
-    inputs = uncertainty.UInputs(
-        apparent_c=float(np.mean(cv.apparent_c[zone])), emissivity=eps,
-        u_emissivity=tg.emissivity_uncertainty, reflected_c=tg.reflected_c,
-        u_reflected_k=tg.reflected_uncertainty_k, t_ai_c=c.indoor_air_c,
-        u_t_ai_k=c.air_uncertainty_k, t_ae_c=c.outdoor_air_c, u_t_ae_k=c.air_uncertainty_k,
-        camera_accuracy_k=accuracy, camera_relative_k=camera.relative_accuracy_k,
-        transmittance=cv.transmittance, side=cv.side, h_c_model=flux.h_c_model[element.name],
-        direction=element.heat_flow, wind_m_s=c.wind_m_s, u_wind=c.wind_uncertainty_m_s,
-        height_m=element.height_m, t_sky_c=t_sky, f_sky=f_sky if f_sky is not None else 0.5,
-        calibration=cal)
-    try:
-        est = uncertainty.monte_carlo_u(inputs, n_draws=analysis.monte_carlo_draws,
-                                        seed=analysis.seed)
-    except ValueError as exc:
-        raise SurveyError(f"element '{element.name}': {exc}", survey_file, where) from None
+    def estimate(pixels):
+        apparent = float(np.average(cv.apparent_c[pixels], weights=cv.area_map_m2[pixels]))
+        inputs = uncertainty.UInputs(
+            apparent_c=apparent, emissivity=eps,
+            u_emissivity=tg.emissivity_uncertainty, reflected_c=tg.reflected_c,
+            u_reflected_k=tg.reflected_uncertainty_k, t_ai_c=c.indoor_air_c,
+            u_t_ai_k=c.air_uncertainty_k, t_ae_c=c.outdoor_air_c, u_t_ae_k=c.air_uncertainty_k,
+            camera_accuracy_k=accuracy, camera_relative_k=camera.relative_accuracy_k,
+            transmittance=cv.transmittance, side=cv.side,
+            h_c_model=flux.h_c_model[element.name], direction=element.heat_flow,
+            wind_m_s=c.wind_m_s, u_wind=c.wind_uncertainty_m_s, height_m=element.height_m,
+            t_sky_c=t_sky, f_sky=f_sky if f_sky is not None else 0.5, calibration=cal)
+        try:
+            return uncertainty.monte_carlo_u(inputs, n_draws=analysis.monte_carlo_draws,
+                                             seed=analysis.seed)
+        except ValueError as exc:
+            raise SurveyError(f"element '{element.name}': {exc}", survey_file, where) from None
+
+    est = estimate(zone)
+    whole = whole_mask & np.isfinite(obj)
+    est_whole = estimate(whole) if whole.any() else None
     u_valid, u_notes = True, list(notes)
     if any(ch.name == "night_sky" and ch.status == "fail" for ch in checks):
         u_valid = False
@@ -237,6 +243,9 @@ def element_result(cv: CorrectedView, flux: SurfaceFlux, element: Element, undis
         u_w_m2k=est.u_w_m2k, u_std_w_m2k=est.u_std, u_low95_w_m2k=est.low95,
         u_high95_w_m2k=est.high95,
         u_whole_w_m2k=_whole_u(flux.q_w_m2, cv.area_map_m2, whole_mask, dt),
+        u_whole_std_w_m2k=None if est_whole is None else est_whole.u_std,
+        u_whole_low95_w_m2k=None if est_whole is None else est_whole.low95,
+        u_whole_high95_w_m2k=None if est_whole is None else est_whole.high95,
         undisturbed_share=share, undisturbed_zone=zone_name,
         u_method=f"{cv.side} surface", h_c_model=flux.h_c_model[element.name],
         h_c_w_m2k=flux.h_c_w_m2k[element.name],

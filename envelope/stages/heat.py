@@ -19,16 +19,21 @@ DEFECT_MEASURE_CLASSES = {"seal_leak": ("air leakage",),
 
 
 def with_verdicts(elements, survey_checks, analysis: Analysis) -> tuple[ElementResult, ...]:
-    """Element results with the builder's verdict on those that have a specified U."""
+    """Element results with the builder's verdict on those that have a specified U.
+
+    The verdict judges the element as built: its whole net area, defects included (a wall
+    with a missing batt must not pass on its good parts), with that area's own interval.
+    """
     night_ok = all(ch.status != "fail" for ch in survey_checks)
     out = []
     for e in elements:
         if e.u_specified_w_m2k is not None:
             ok = night_ok and e.u_valid and all(ch.status != "fail" for ch in e.checks)
             verdict, reason = verdicts.builder_verdict(
-                e.u_low95_w_m2k, e.u_high95_w_m2k, e.u_specified_w_m2k,
+                e.u_whole_low95_w_m2k, e.u_whole_high95_w_m2k, e.u_specified_w_m2k,
                 analysis.verdict_tolerance_w_m2k, checks_ok=ok)
-            e = dataclasses.replace(e, verdict=verdict, verdict_reason=reason)
+            e = dataclasses.replace(e, verdict=verdict, verdict_reason=reason,
+                                    verdict_basis="whole net area as built (defects included)")
         out.append(e)
     return tuple(out)
 
