@@ -252,12 +252,11 @@ def band_temperature(radiance, band_um=DEFAULT_BAND_UM):
 
 
 def _check_fractions(emissivity, transmittance):
-    eps = np.asarray(emissivity, dtype=float)
-    tau = np.asarray(transmittance, dtype=float)
-    if np.any(~(eps > 0) | (eps > 1)):
-        raise ValueError(f"emissivity must lie in (0, 1], got {emissivity!r}")
-    if np.any(~(tau > 0) | (tau > 1)):
-        raise ValueError(f"transmittance must lie in (0, 1], got {transmittance!r}")
+    eps = np.asarray(emissivity)
+    tau = np.asarray(transmittance)
+    for name, v, given in (("emissivity", eps, emissivity), ("transmittance", tau, transmittance)):
+        if v.dtype.kind not in "fiu" or not (v.size and np.min(v) > 0 and np.max(v) <= 1):
+            raise ValueError(f"{name} must lie in (0, 1], got {given!r}")
     return eps, tau
 
 
@@ -297,13 +296,30 @@ def apparent_temperature(object_c, emissivity, reflected_c, transmittance=1.0,
     band = _check_band(band_um)
     eps, tau = _check_fractions(emissivity, transmittance)
     atm = reflected_c if atmosphere_c is None else atmosphere_c
+    obj = np.asarray(object_c)
+    if obj.size >= 2 * _CHUNK and all(np.ndim(v) == 0 for v in (tau, reflected_c, atm)):
+        if np.ndim(eps) == 0 and float(eps) == 1.0 and float(tau) == 1.0:
+            return obj.astype(np.float32 if obj.dtype == np.float32 else float, copy=True)
+
+        def exact_for(e):
+            return ("apparent", e, float(tau), float(reflected_c), float(atm), band)
+
+        dtype = np.float32 if obj.dtype == np.float32 else np.float64
+        out = _smooth_fast_path(obj.astype(dtype, copy=False), eps, exact_for)
+        if out is not None:
+            return out
+    out = _apparent_general(obj, eps, tau, reflected_c, atm, band)
+    if obj.dtype == np.float32:
+        out = np.asarray(out, dtype=np.float32)
+    return _scalar_out(out, object_c)
+
+
+def _apparent_general(object_c, eps, tau, reflected_c, atm, band):
+    """The forward equation per pixel, exactly (float64)."""
     w = (tau * eps * _fast_radiance(np.asarray(object_c, float) + _ZERO_C, band)
          + tau * (1 - eps) * _fast_radiance(np.asarray(reflected_c, float) + _ZERO_C, band)
          + (1 - tau) * _fast_radiance(np.asarray(atm, float) + _ZERO_C, band))
-    out = band_temperature(w, band) - _ZERO_C
-    if np.asarray(object_c).dtype == np.float32:
-        out = np.asarray(out, dtype=np.float32)
-    return _scalar_out(out, object_c)
+    return band_temperature(w, band) - _ZERO_C
 
 
 def _object_general(apparent_c, eps, tau, reflected_c, atm, band, dtype):
@@ -315,33 +331,56 @@ def _object_general(apparent_c, eps, tau, reflected_c, atm, band, dtype):
 
 
 _CHUNK = 65536
-_POLY_TOL_K = 5e-5
+_POLY_TOL_K = 2e-5
 
 
-def _object_by_polynomial(apparent, eps, tau, reflected_c, atm, band):
-    """Scalar settings: fit the correction, a smooth function of the reading, by a polynomial.
+def _exact(key, x):
+    """The exact per-pixel path named by ``key`` = (kind, eps, tau, refl, atm, band)."""
+    kind, e, tau, refl, atm, band = key
+    if kind == "object":
+        return _object_general(x, e, tau, refl, atm, band, float)
+    return _apparent_general(x, e, tau, refl, atm, band)
 
-    Chebyshev least squares on 1001 exact points spanning the image, degrees 4...12, the first
-    within 5e-5 K is evaluated by Horner's scheme in the image dtype. None if no degree fits
-    (NaN in range or too wide a range).
+
+@functools.lru_cache(maxsize=512)
+def _chebyshev_fit(key, lo: float, hi: float):
+    """Power-series coefficients (in T - mid) of the path ``key`` over [lo, hi], or None.
+
+    Cached: frames of one view or series share their settings and (rounded) range, so the
+    fit is paid once.
+    """
+    mid, half = (hi + lo) / 2.0, max((hi - lo) / 2.0, 1e-3)
+    grid = np.linspace(-1.0, 1.0, 1001)
+    exact = _exact(key, mid + half * grid)
+    if not np.all(np.isfinite(exact)):
+        return None
+    for degree in (4, 6, 8, 10, 12):
+        coef = np.polynomial.chebyshev.chebfit(grid, exact, degree)
+        if np.max(np.abs(np.polynomial.chebyshev.chebval(grid, coef) - exact)) <= _POLY_TOL_K:
+            break
+    else:
+        return None
+    power = np.polynomial.chebyshev.cheb2poly(coef)
+    return mid, tuple(float(c / half**k) for k, c in enumerate(power))
+
+
+def _by_polynomial(apparent, key):
+    """Fit a smooth monotone function of the reading by a polynomial and evaluate it.
+
+    ``key`` names the exact per-pixel path (`_exact`). Chebyshev least squares on 1001 exact
+    points spanning the image's range (rounded out to whole kelvin, so frames share a fit),
+    degrees 4...12, the first within 2e-5 K is evaluated by Horner's scheme in the image
+    dtype. None if no degree fits (NaN in range or too wide a range).
     """
     lo, hi = float(np.nanmin(apparent)), float(np.nanmax(apparent))
     if not (math.isfinite(lo) and math.isfinite(hi)):
         return None
-    mid, half = (hi + lo) / 2.0, max((hi - lo) / 2.0, 1e-3)
-    grid = np.linspace(-1.0, 1.0, 1001)
-    exact = _object_general(mid + half * grid, eps, tau, reflected_c, atm, band, float)
-    if not np.all(np.isfinite(exact)):
+    fit = _chebyshev_fit(key, float(math.floor(lo)), float(math.ceil(hi)))
+    if fit is None:
         return None
-    for degree in (4, 6, 8, 10, 12):
-        cheb = np.polynomial.Chebyshev.fit(grid, exact, degree, domain=[-1, 1])
-        if np.max(np.abs(cheb(grid) - exact)) <= _POLY_TOL_K:
-            break
-    else:
-        return None
+    mid, power = fit
     dtype = apparent.dtype.type
-    power = cheb.convert(kind=np.polynomial.Polynomial).coef
-    coef = [dtype(c / half**k) for k, c in enumerate(power)]  # polynomial in (T - mid)
+    coef = [dtype(c) for c in power]  # polynomial in (T - mid)
     out = np.empty(apparent.shape, dtype=dtype)
     src, dst = apparent.reshape(-1), out.reshape(-1)
     sbuf = np.empty(_CHUNK, dtype)
@@ -359,14 +398,14 @@ def _object_by_polynomial(apparent, eps, tau, reflected_c, atm, band):
     return out
 
 
-def _object_by_table(apparent, eps, tau, reflected_c, atm, band):
-    """Scalar settings: tabulate the correction on a uniform grid, interpolate linearly."""
+def _by_table(apparent, key):
+    """Tabulate a smooth function of the reading on a uniform grid, interpolate linearly."""
     lo, hi = float(np.nanmin(apparent)), float(np.nanmax(apparent))
     step = max((hi - lo) / 65000.0, 0.01)
     if not (math.isfinite(lo) and math.isfinite(hi)) or step > 0.05:
         return None
     nodes = lo + step * np.arange(int((hi - lo) / step) + 3)
-    table = _object_general(nodes, eps, tau, reflected_c, atm, band, float)
+    table = _exact(key, nodes)
     dtype = apparent.dtype.type
     val = table[:-1].astype(dtype)
     slope = np.diff(table).astype(dtype)
@@ -390,6 +429,59 @@ def _object_by_table(apparent, eps, tau, reflected_c, atm, band):
             np.multiply(p, g, out=p)
             np.add(p, v, out=dst[start:start + m])
     return out
+
+
+_MAX_LEVELS = 64
+"""Most distinct emissivities of a map that the fast path handles group by group."""
+
+
+def _smooth_fast_path(x, eps, exact_for):
+    """Evaluate a per-pixel function of the reading fast, when its other inputs are scalar
+    or an emissivity map of a few distinct values (one per element: the pipeline's case).
+
+    ``exact_for(e)`` returns the key of the exact path for emissivity ``e``. Pixels are grouped by
+    emissivity; each group goes through `_by_polynomial`, else `_by_table`. Returns None when
+    a group cannot be fitted (the caller takes the exact path).
+    """
+    if np.ndim(eps) == 0:
+        for fast in (_by_polynomial, _by_table):
+            out = fast(x, exact_for(float(eps)))
+            if out is not None:
+                return out
+        return None
+    e = np.asarray(eps)
+    if e.shape != x.shape:
+        return None
+    flat_e, flat = e.reshape(-1), x.reshape(-1)
+    # the levels, found on a sample and then checked to cover every pixel (no full sort)
+    levels = np.unique(flat_e[:: max(1, flat_e.size // 4096)])
+    if levels.size > _MAX_LEVELS:
+        return None
+    masks = [flat_e == level for level in levels]
+    counts = [int(np.count_nonzero(m)) for m in masks]
+    if sum(counts) != flat.size:
+        return None
+
+    def evaluate(values, level):
+        for fast in (_by_polynomial, _by_table):
+            got = fast(values, exact_for(float(level)))
+            if got is not None:
+                return got
+        return None
+
+    # the most common emissivity over the whole frame (no gather), the others on their pixels
+    major = int(np.argmax(counts))
+    out = evaluate(flat, levels[major])
+    if out is None:
+        return None
+    for k, (level, mask) in enumerate(zip(levels, masks, strict=True)):
+        if k == major or counts[k] == 0:
+            continue
+        got = evaluate(flat[mask], level)
+        if got is None:
+            return None
+        out[mask] = got
+    return out.reshape(x.shape)
 
 
 def object_temperature(apparent_c, emissivity, reflected_c, transmittance=1.0,
@@ -423,8 +515,10 @@ def object_temperature(apparent_c, emissivity, reflected_c, transmittance=1.0,
     ``W = L(T_app)`` (the measurement equation of [1] solved for the object term). With
     scalar settings and large images the correction is one smooth monotone function of the
     reading: it is fitted over the image's range by a Chebyshev polynomial (degree 4-12,
-    within 5e-5 K of the per-pixel path) or, failing that, tabulated every <= 0.05 K and
-    interpolated (error below 1e-5 K away from the NaN limit); otherwise per pixel.
+    within 2e-5 K of the per-pixel path) or, failing that, tabulated every <= 0.05 K and
+    interpolated (error below 1e-5 K away from the NaN limit); an emissivity map of a few
+    distinct values (one per element) is done group by group the same way; otherwise per
+    pixel.
 
     References
     ----------
@@ -444,13 +538,14 @@ def object_temperature(apparent_c, emissivity, reflected_c, transmittance=1.0,
     if scalar and float(eps) == 1.0 and float(tau) == 1.0:
         out = app.astype(dtype, copy=True)
         return _scalar_out(out[()] if out.ndim == 0 else out, apparent_c)
-    if scalar and app.size >= 2 * _CHUNK:
-        args = (app.astype(dtype, copy=False), float(eps), float(tau), float(reflected_c),
-                float(atm), band)
-        for fast in (_object_by_polynomial, _object_by_table):
-            out = fast(*args)
-            if out is not None:
-                return out
+    settings = (tau, reflected_c, atm)
+    if app.size >= 2 * _CHUNK and all(np.ndim(v) == 0 for v in settings):
+        def exact_for(e):
+            return ("object", e, float(tau), float(reflected_c), float(atm), band)
+
+        out = _smooth_fast_path(app.astype(dtype, copy=False), eps, exact_for)
+        if out is not None:
+            return out
     out = _object_general(app, eps, tau, reflected_c, atm, band, dtype)
     return _scalar_out(out[()] if out.ndim == 0 else out, apparent_c)
 
