@@ -93,9 +93,9 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
                         outlines=[r.polygon_net for r in t.regions.values()])
         if progress:
             progress("figures")
-    from .plots.series import series_figure
-
     import dataclasses
+
+    from .plots.series import series_figure
 
     for sr in assessment.series:
         series_figure(dataclasses.asdict(sr), out_dir / f"figures/series-{sr.id}.png")

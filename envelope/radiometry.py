@@ -3,8 +3,8 @@
 A thermal camera measures the radiance it receives over its spectral band and reports it as a
 temperature. This module holds Planck's law integrated over the band (exact series), a fast
 band inversion (Sakuma-Hattori equation with a tabulated residual), the measurement equation of
-thermography forward and inverse, undoing the camera's own export settings, an approximate
-atmospheric transmittance, an emissivity table of building materials and the oblique-view check.
+thermography forward and inverse, and undoing the camera's own export settings. The air path's
+transmittance is in `envelope.atmosphere`, the emissivity table in `envelope.materials`.
 
 Temperatures are in °C in the public functions unless the name says ``_k``.
 """
@@ -13,16 +13,14 @@ from __future__ import annotations
 
 import functools
 import math
-import warnings
 from dataclasses import dataclass
 
 import numpy as np
 from scipy import constants as _sc
 from scipy import optimize, special
 
-from envelope.condensation import saturation_vapour_pressure
-from envelope.constants import P_ATM_PA, R_V_J_KGK, T0_K
-from envelope.errors import EnvelopeWarning, SurveyError
+from envelope.constants import T0_K
+from envelope.materials import MATERIALS, Material, emissivity_for  # noqa: F401 (moved)
 
 DEFAULT_BAND_UM = (7.5, 14.0)
 """Default camera band [µm]: long-wave cameras for buildings work in about 7.5-14 µm."""
@@ -583,144 +581,3 @@ def export_reading(apparent_c, export_emissivity=1.0, export_reflected_c=20.0,
     """
     return object_temperature(apparent_c, export_emissivity, export_reflected_c,
                               export_transmittance, export_atmosphere_c, band_um)
-
-
-_R_V = R_V_J_KGK
-_P_ATM = P_ATM_PA
-
-
-def _tau_continuum(distance_m, air_c, rh, band_um):
-    t_k = np.asarray(air_c, dtype=float) + _ZERO_C
-    e_pa = np.asarray(rh, dtype=float) * saturation_vapour_pressure(air_c)
-    rho_v = e_pa / (_R_V * t_k)  # vapour density [kg m-3]
-    w_g_cm2 = rho_v * np.asarray(distance_m, dtype=float) * 0.1  # precipitable water [g cm-2]
-    # Band average weighted by the blackbody spectrum at the air temperature.
-    nu = np.linspace(1e4 / band_um[1], 1e4 / band_um[0], 64)  # wavenumber [cm-1]
-    lam_um = 1e4 / nu
-    tt = np.expand_dims(t_k, -1)
-    weight = spectral_radiance(lam_um, tt) * lam_um**2  # per unit wavenumber
-    c_s = (4.18 + 5578.0 * np.exp(-7.87e-3 * nu)) * np.exp(1800.0 * (1.0 / tt - 1.0 / 296.0))
-    pressure_atm = np.expand_dims(e_pa + 0.002 * (_P_ATM - e_pa), -1) / _P_ATM
-    depth = c_s * pressure_atm * np.expand_dims(w_g_cm2, -1)
-    tau = np.sum(np.exp(-depth) * weight, axis=-1) / np.sum(weight, axis=-1)
-    return tau
-
-
-def _tau_none(distance_m, air_c, rh, band_um):
-    return np.ones(np.broadcast(distance_m, np.asarray(air_c), rh).shape)
-
-
-_TAU_MODELS = {"water-vapour-continuum": _tau_continuum, "none": _tau_none}
-
-
-def atmospheric_transmittance(distance_m, air_c, rh, band_um=DEFAULT_BAND_UM,
-                              model="water-vapour-continuum"):
-    """Band transmittance of the air between camera and surface [-], approximate.
-
-    Parameters
-    ----------
-    distance_m : array_like
-        Path length [m], >= 0.
-    air_c : array_like
-        Air temperature [°C].
-    rh : array_like
-        Relative humidity [-], 0-1.
-    band_um : (float, float)
-        Camera band [µm]; the continuum model is for the 8-12 µm window.
-    model : {"water-vapour-continuum", "none"}
-        "none" gives 1.
-
-    Notes
-    -----
-    Precipitable water along the path ``w = rho_v d`` with ``rho_v = rh p_sat(T) / (R_v T)``
-    (p_sat from the Magnus formula with the ISO 13788 constants [2]). Spectral optical depth of
-    the self- and foreign-broadened water-vapour continuum after [1] (coefficients from
-    memory): ``k(nu) = [4.18 + 5578 exp(-7.87e-3 nu)] exp[1800 (1/T - 1/296)]`` in
-    cm2 g-1 atm-1, times ``(e + 0.002 (P - e))`` [atm] and w [g cm-2]; averaged over the band
-    weighted by the blackbody spectrum at the air temperature. Line absorption, CO2 and
-    aerosols are neglected, so the result overestimates tau somewhat; for building surveys
-    (tens of metres) tau stays above 0.98 and the correction is small. Outside 8-12 µm the
-    model is an extrapolation and a warning is issued.
-
-    References
-    ----------
-    [1] R. E. Roberts, J. E. A. Selby and L. M. Biberman, "Infrared continuum absorption by
-        atmospheric water vapor in the 8-12 µm window", Applied Optics 15(9), 2085-2090, 1976.
-    [2] ISO 13788:2012, Hygrothermal performance of building components and building
-        elements, Annex E (saturation vapour pressure).
-    """
-    if model not in _TAU_MODELS:
-        raise ValueError(f"unknown transmittance model {model!r}; valid: {sorted(_TAU_MODELS)}")
-    band = _check_band(band_um)
-    d = np.asarray(distance_m, dtype=float)
-    h = np.asarray(rh, dtype=float)
-    if np.any(d < 0) or np.any((h < 0) | (h > 1)):
-        raise ValueError("distance_m must be >= 0 and rh a fraction in [0, 1]")
-    if model != "none" and (band[0] < 7.0 or band[1] > 15.0):
-        warnings.warn(f"the water-vapour continuum model is for about 8-12 µm; band {band} "
-                      "is an extrapolation", EnvelopeWarning, stacklevel=2)
-    out = _TAU_MODELS[model](d, air_c, h, band)
-    return float(out) if np.ndim(out) == 0 else out
-
-
-@dataclass(frozen=True)
-class Material:
-    """Long-wave emissivity of a building material, with where the value comes from."""
-
-    name: str
-    emissivity: float
-    source: str
-    note: str = ""
-
-
-_INC = "Incropera et al., Fundamentals of Heat and Mass Transfer, 6th ed., Table A.11 (from memory)"
-_ASH = "ASHRAE Handbook Fundamentals 2017, ch. 4, emissivity table (from memory)"
-_EN673 = "EN 673:2011 / ISO 10292, uncoated soda-lime glass 0.837 (from memory)"
-_PRACT = "common practice in building thermography (from memory)"
-
-MATERIALS: dict[str, Material] = {m.name: m for m in (
-    Material("painted-plaster", 0.93, _ASH, "emulsion or oil paint, any colour"),
-    Material("brick", 0.93, _INC, "common red brick, rough"),
-    Material("concrete", 0.92, _INC, "rough, 0.88-0.93"),
-    Material("render", 0.93, _PRACT, "cement or lime render, matt"),
-    Material("glass", 0.84, _EN673, "uncoated float glass, near normal view; low-e coatings much lower"),
-    Material("timber", 0.90, _INC, "planed or painted wood, 0.82-0.92"),
-    Material("pvc-u-frame", 0.90, _PRACT, "white PVC-U window frame"),
-    Material("aluminium-bare", 0.09, _INC, "commercial sheet; unreliable for measurement"),
-    Material("aluminium-anodised", 0.82, _INC, ""),
-    Material("galvanised-steel", 0.28, _ASH, "weathered; new bright sheet about 0.23"),
-    Material("roofing-felt", 0.92, _PRACT, "bitumen felt"),
-    Material("ceramic-tile", 0.90, _INC, "glazed"),
-    Material("plasterboard", 0.90, _ASH, "gypsum board, papered, painted"),
-    Material("foil-faced-insulation", 0.05, _ASH, "bright aluminium foil facing; do not measure"),
-    Material("water", 0.96, _INC, "liquid film"),
-    Material("ice", 0.97, _INC, "smooth ice or frost 0.96-0.98"),
-    Material("electrical-tape", 0.95, _PRACT, "black PVC tape, reference patch"),
-    Material("matt-black-paint", 0.95, _PRACT, "flat black paint, reference patch"),
-)}
-"""Long-wave (about 8-14 µm / total hemispherical) emissivities; keys are hyphenated slugs."""
-
-
-def emissivity_for(name):
-    """Emissivity of a material of `MATERIALS` [-], by its slug (case-insensitive)."""
-    key = str(name).strip().lower().replace(" ", "-").replace("_", "-")
-    if key not in MATERIALS:
-        raise SurveyError(f"unknown material {name!r}; valid: {', '.join(sorted(MATERIALS))}",
-                          field="material")
-    return MATERIALS[key].emissivity
-
-
-def check_view_angle(angle_deg, limit_deg=60.0):
-    """Check the angle between surface normal and line of sight [deg]; True when acceptable.
-
-    Above `limit_deg` an `EnvelopeWarning` is issued: emissivity falls off at grazing
-    angles (common practice: keep within about 60° of the normal).
-    """
-    angle = float(angle_deg)
-    if not 0.0 <= angle <= 90.0:
-        raise ValueError(f"angle_deg must lie in [0, 90], got {angle_deg!r}")
-    if angle > limit_deg:
-        warnings.warn(f"view angle {angle:.0f}° from the surface normal exceeds {limit_deg:.0f}°:"
-                      " emissivity falls off at grazing angles", EnvelopeWarning, stacklevel=2)
-        return False
-    return True

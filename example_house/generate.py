@@ -30,7 +30,7 @@ import tifffile
 from scipy import ndimage
 from shapely.geometry import Polygon, box
 
-from envelope import condensation, films, radiometry, synth
+from envelope import atmosphere, condensation, films, radiometry, synth
 
 SEED = 2026
 SHAPE = (480, 640)
@@ -214,7 +214,7 @@ def air_and_rh(view: View):
 def render_reading(view: View, t_obj, eps, refl, rng):
     """Exported per-pixel readings [°C] (float32) of a view."""
     air, rh = air_and_rh(view)
-    tau = radiometry.atmospheric_transmittance(view.distance_m, air, rh, BAND_UM)
+    tau = atmosphere.atmospheric_transmittance(view.distance_m, air, rh, BAND_UM)
     app = synth.render_apparent(t_obj, eps, refl, tau, air, noise_k=NOISE_K, offset_k=OFFSET_K,
                                 rng=rng, band_um=BAND_UM)
     ex_eps, ex_refl = view.export
@@ -801,7 +801,7 @@ def main(out_dir=None) -> Path:
             "side": v.side, "shape_px": list(v.shape), "note": v.note,
             "reflected_c": v.reflected_c, "distance_m": v.distance_m,
             "view_angle_deg": _r(v.view_angle_deg, 2), "yaw_deg": v.yaw_deg, "pitch_deg": v.pitch_deg,
-            "transmittance": _r(radiometry.atmospheric_transmittance(v.distance_m, air, rh, BAND_UM), 6),
+            "transmittance": _r(atmosphere.atmospheric_transmittance(v.distance_m, air, rh, BAND_UM), 6),
             "export_emissivity": v.export[0], "export_reflected_c": v.export[1],
             "pixel_to_metre_homography": [[_r(x, 9) for x in row] for row in v.homography],
             "camera_shift_px": list(v.shift_px),

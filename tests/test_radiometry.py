@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import warnings
-
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -11,6 +9,7 @@ from hypothesis import strategies as st
 from scipy import constants as sc
 from scipy import integrate, optimize
 
+from envelope import atmosphere, materials
 from envelope import radiometry as rad
 from envelope.errors import EnvelopeWarning, SurveyError
 
@@ -216,20 +215,20 @@ def test_blackbody_reading_identity_and_round_trip():
 
 def test_transmittance_behaviour():
     d = np.array([0.0, 2.0, 10.0, 50.0, 200.0])
-    tau = rad.atmospheric_transmittance(d, 15.0, 0.7)
+    tau = atmosphere.atmospheric_transmittance(d, 15.0, 0.7)
     assert tau[0] == pytest.approx(1.0)
     assert np.all(np.diff(tau) < 0)  # monotone in distance
     # Short path in dry air is essentially transparent (common practice: tau ~ 1 at a few m).
-    assert rad.atmospheric_transmittance(3.0, 10.0, 0.2) > 0.999
-    wet = rad.atmospheric_transmittance(30.0, 15.0, np.array([0.2, 0.5, 0.9]))
+    assert atmosphere.atmospheric_transmittance(3.0, 10.0, 0.2) > 0.999
+    wet = atmosphere.atmospheric_transmittance(30.0, 15.0, np.array([0.2, 0.5, 0.9]))
     assert np.all(np.diff(wet) < 0)  # monotone in humidity
     # Building distances (< 30 m): tau above 0.98 (common practice).
-    assert rad.atmospheric_transmittance(30.0, 25.0, 0.9) > 0.98
-    assert rad.atmospheric_transmittance(30.0, 25.0, 0.9, model="none") == 1.0
+    assert atmosphere.atmospheric_transmittance(30.0, 25.0, 0.9) > 0.98
+    assert atmosphere.atmospheric_transmittance(30.0, 25.0, 0.9, model="none") == 1.0
     with pytest.raises(ValueError, match="water-vapour-continuum"):
-        rad.atmospheric_transmittance(10.0, 10.0, 0.5, model="nope")
+        atmosphere.atmospheric_transmittance(10.0, 10.0, 0.5, model="nope")
     with pytest.warns(EnvelopeWarning):
-        rad.atmospheric_transmittance(10.0, 10.0, 0.5, band_um=(3.0, 5.0))
+        atmosphere.atmospheric_transmittance(10.0, 10.0, 0.5, band_um=(3.0, 5.0))
 
 
 def test_transmittance_vapour_density_matches_coolprop():
@@ -239,27 +238,17 @@ def test_transmittance_vapour_density_matches_coolprop():
     from CoolProp.CoolProp import PropsSI
 
     p_ref = PropsSI("P", "T", 293.15, "Q", 0, "Water")
-    assert rad.saturation_vapour_pressure(20.0) == pytest.approx(p_ref, rel=5e-3)
+    assert atmosphere.saturation_vapour_pressure(20.0) == pytest.approx(p_ref, rel=5e-3)
 
 
 def test_materials_table():
-    assert len(rad.MATERIALS) >= 15
-    for key, mat in rad.MATERIALS.items():
+    assert len(materials.MATERIALS) >= 15
+    for key, mat in materials.MATERIALS.items():
         assert key == mat.name == key.lower() and " " not in key
         assert mat.source.strip()
         assert 0.0 < mat.emissivity <= 1.0
     # Incropera Table A.11 (from memory): water 0.96; bright aluminium foil is low (< 0.1).
-    assert rad.emissivity_for("water") == pytest.approx(0.96)
-    assert rad.emissivity_for("Foil-Faced-Insulation") < 0.1
+    assert materials.emissivity_for("water") == pytest.approx(0.96)
+    assert materials.emissivity_for("Foil-Faced-Insulation") < 0.1
     with pytest.raises(SurveyError, match="unobtainium.*brick"):
-        rad.emissivity_for("unobtainium")
-
-
-def test_view_angle():
-    with warnings.catch_warnings():
-        warnings.simplefilter("error")
-        assert rad.check_view_angle(30.0)
-    with pytest.warns(EnvelopeWarning):
-        assert not rad.check_view_angle(75.0)
-    with pytest.raises(ValueError):
-        rad.check_view_angle(120.0)
+        materials.emissivity_for("unobtainium")

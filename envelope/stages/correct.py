@@ -13,7 +13,7 @@ from collections.abc import Mapping
 
 import numpy as np
 
-from envelope import calibration, geometry, radiometry, validity
+from envelope import atmosphere, calibration, geometry, materials, radiometry, validity
 from envelope.errors import SurveyError
 from envelope.stages.data import CorrectedView
 from envelope.survey import Camera, Conditions, Element, Thermogram
@@ -35,7 +35,7 @@ def emissivity_of(element: Element, thermogram: Thermogram) -> tuple[float, str]
     if element.emissivity is not None:
         return element.emissivity, "element"
     if element.material is not None:
-        return radiometry.emissivity_for(element.material), f"material {element.material}"
+        return materials.emissivity_for(element.material), f"material {element.material}"
     if thermogram.emissivity_default is not None:
         return thermogram.emissivity_default, "thermogram default"
     return DEFAULT_EMISSIVITY, "default"
@@ -74,7 +74,7 @@ def path_conditions(tg: Thermogram, conditions: Conditions, band_um) -> tuple[fl
     if tg.transmittance is not None:
         tau = float(tg.transmittance)
     else:
-        tau = float(radiometry.atmospheric_transmittance(tg.distance_m, air,
+        tau = float(atmosphere.atmospheric_transmittance(tg.distance_m, air,
                                                          0.6 if rh is None else rh,
                                                          band_um=band_um))
     atm = tg.atmosphere_c if tg.atmosphere_c is not None else air
