@@ -9,6 +9,7 @@ the module tests.
 from __future__ import annotations
 
 import builtins
+import dataclasses
 import io
 from pathlib import Path
 
@@ -107,3 +108,56 @@ def test_defect_without_reference_zone_is_counted_once_in_h():
     assert a.energy.balance.heat_loss.h_w_k == pytest.approx(h_true, rel=0.02)
     # the whole-area U is the same heat by another route
     assert wall.u_whole_w_m2k * 12.0 == pytest.approx(h_true, rel=0.02)
+
+
+def _two_view_survey(measures=()):
+    els = [sv.Element("test-wall", "wall", emissivity=0.93),
+           sv.Element("test-window", "window", host="test-wall", emissivity=0.84),
+           sv.Element("other-wall", "wall", emissivity=0.93)]
+    s = memory_survey(els, [view_entry("room-north", SHAPE[1]), view_entry("room-east", SHAPE[1])],
+                      measures=measures)
+    return dataclasses.replace(s, prices=sv.Prices(energy_price_per_kwh=0.1))
+
+
+def test_measure_on_a_failed_view_is_left_out_with_its_real_index():
+    from envelope.retrofit import Measure
+
+    ms = (Measure("line the north wall", "add_layer", elements=("test-wall",), thickness_m=0.05,
+                  conductivity_w_mk=0.03, cost=900.0),
+          Measure("line the east wall", "add_layer", elements=("other-wall",), thickness_m=0.05,
+                  conductivity_w_mk=0.03, cost=700.0))
+    s = _two_view_survey(ms)
+    # room-east has no pixel data: that view fails with a user error, the run goes on
+    source = InMemory({"room-north": (readings(), outlines_geojson())},
+                      element_names=list(s.elements))
+    a = envelope.assess_survey(s, source=source)
+    assert [f.what for f in a.failures] == ["room-east"]
+    assert [m.name for m in a.energy.measures] == ["line the north wall"]
+    assert any("measures[1]" in n and "other-wall" in n for n in a.notes)
+
+
+def test_view_whose_outlines_file_has_no_features_fails_alone():
+    s = _two_view_survey()
+    empty = {"type": "FeatureCollection", "features": []}
+    source = InMemory({"room-north": (readings(), outlines_geojson()),
+                       "room-east": (readings(), empty)}, element_names=list(s.elements))
+    a = envelope.assess_survey(s, source=source)
+    (f,) = a.failures
+    assert f.what == "room-east" and "no element outline" in f.error
+    assert {v.status for v in a.views} == {"assessed", "failed"}
+
+
+def test_a_bug_in_a_stage_is_not_reported_as_a_failed_view(monkeypatch):
+    # per-view isolation catches user errors only; a programming error must surface
+    from envelope import assess
+
+    def broken(*args, **kwargs):
+        raise ZeroDivisionError("a bug")
+
+    monkeypatch.setattr(assess, "assess_view", broken)
+    s = _two_view_survey()
+    source = InMemory({"room-north": (readings(), outlines_geojson()),
+                       "room-east": (readings(), outlines_geojson())},
+                      element_names=list(s.elements))
+    with pytest.raises(ZeroDivisionError):
+        envelope.assess_survey(s, source=source)
