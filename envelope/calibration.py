@@ -45,8 +45,12 @@ __all__ = [
 #: emissivity is a ratio whose denominator is that contrast (in radiance); below about ten
 #: standard uncertainties (coefficient of variation > 0.1) the ratio is skewed and
 #: heavy-tailed, and the inverse-variance combination with the prior, which assumes a
-#: near-normal estimate, no longer holds (Díaz-Francés & Rubio 2013, from memory). With a
-#: reflected temperature known to 0.5 K this asks for a contrast of about 5 K.
+#: near-normal estimate, no longer holds (Díaz-Francés & Rubio 2013, from memory); near a
+#: zero contrast the estimate blows up. What the contrast's uncertainty holds depends on the
+#: view: with the camera offset removed by a probe and a reflected temperature known to
+#: 0.5 K the threshold is about 5.5 K; with a same-camera reflector (0.2 K) about 2.5 K; with
+#: an uncorrected ±2 K camera and a declared reflected temperature about 13 K (the offset
+#: then moves the tape's temperature but not the reflected one).
 TAPE_CONTRAST_RATIO = 10.0
 
 

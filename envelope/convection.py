@@ -81,12 +81,13 @@ def _churchill_chu(t_s_c, t_a_c, heat_flow, height_m, **_):
 
 def _alamdari_hammond(t_s_c, t_a_c, heat_flow, height_m, hydraulic_diameter_m, **_):
     dt = _dt(t_s_c, t_a_c)
-    if heat_flow == "horizontal":
-        return ((1.5 * (dt / height_m) ** 0.25) ** 6 + (1.23 * dt ** (1 / 3)) ** 6) ** (1 / 6)
-    d = hydraulic_diameter_m
-    if heat_flow == "upward":
-        return ((1.4 * (dt / d) ** 0.25) ** 6 + (1.63 * dt ** (1 / 3)) ** 6) ** (1 / 6)
-    return 0.6 * (dt / d**2) ** 0.2
+    if heat_flow == "horizontal":  # {[a (dT/L)^1/4]^6 + [b dT^1/3]^6}^1/6 without powers
+        a, b, x = 1.5, 1.23, dt / height_m
+    elif heat_flow == "upward":
+        a, b, x = 1.4, 1.63, dt / hydraulic_diameter_m
+    else:
+        return 0.6 * (dt / hydraulic_diameter_m**2) ** 0.2
+    return np.sqrt(np.cbrt(a**6 * x * np.sqrt(x) + b**6 * dt * dt))
 
 
 def _khalifa_marshall(t_s_c, t_a_c, heat_flow, **_):

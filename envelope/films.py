@@ -150,8 +150,9 @@ def air_properties(t_c, p_pa=101325.0):
     if np.any(t <= 0):
         raise ValueError(f"air temperature must be above -273.15 °C, got {np.min(t_c)}")
     rho = p_pa / (R_AIR * t)
-    mu = _MU0 * (t / _T_MU0) ** 1.5 * (_T_MU0 + _S_MU) / (t + _S_MU)
-    k = _K0 * (t / _T_K0) ** 1.5 * (_T_K0 + _S_K) / (t + _S_K)
+    t15 = t * np.sqrt(t)  # T^1.5, computed once for both Sutherland laws
+    mu = _MU0 / _T_MU0**1.5 * t15 * (_T_MU0 + _S_MU) / (t + _S_MU)
+    k = _K0 / _T_K0**1.5 * t15 * (_T_K0 + _S_K) / (t + _S_K)
     cp = np.full_like(t, CP_AIR)
     nu = mu / rho
     alpha = k / (rho * cp)
@@ -177,7 +178,7 @@ def churchill_chu_nusselt(ra, pr):
     """
     ra = np.asarray(ra, dtype=float)
     psi = (1.0 + (0.492 / np.asarray(pr, dtype=float)) ** (9.0 / 16.0)) ** (8.0 / 27.0)
-    return (0.825 + 0.387 * np.abs(ra) ** (1.0 / 6.0) / psi) ** 2
+    return (0.825 + 0.387 * np.sqrt(np.cbrt(np.abs(ra))) / psi) ** 2
 
 
 def _h_iso6946(direction, **_):

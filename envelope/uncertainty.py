@@ -228,35 +228,39 @@ def keyed_normal(key: str, seed: int, n_draws: int) -> np.ndarray:
 
 
 class _Variates:
-    """Keyed streams of standard variates; groups not in ``active`` stay at their centre."""
+    """Keyed streams of scaled variates; a group not in ``active`` (or of zero scale) stays
+    at its centre and costs nothing."""
 
     def __init__(self, seed: int, n: int, n_frames: int, active=None):
         self.seed, self.n, self.nf, self.active = seed, n, n_frames, active
         self.groups: dict[str, None] = {}
 
-    def _on(self, group):
+    def _on(self, group, scale):
+        if np.all(np.asarray(scale) == 0):
+            return False
         self.groups[group] = None
         return self.active is None or group in self.active
 
     def _shape(self, per_frame):
         return (self.n, self.nf if per_frame else 1)
 
-    def normal(self, key, group, per_frame=False):
-        if not self._on(group):
-            return np.zeros((1, 1))
-        return _key_rng(self.seed, key).standard_normal(self._shape(per_frame))
+    def normal(self, key, group, scale, per_frame=False):
+        """scale x standard normal, shape (n, 1) or (n, n_frames); 0.0 when off."""
+        if not self._on(group, scale):
+            return 0.0
+        return scale * _key_rng(self.seed, key).standard_normal(self._shape(per_frame))
 
-    def rect(self, key, group, per_frame=False):
-        """Rectangular on [-1, 1]."""
-        if not self._on(group):
-            return np.zeros((1, 1))
-        return 2.0 * _key_rng(self.seed, key).random(self._shape(per_frame)) - 1.0
+    def rect(self, key, group, half, per_frame=False):
+        """Rectangular on [-half, half]; 0.0 when off."""
+        if not self._on(group, half):
+            return 0.0
+        return half * (2.0 * _key_rng(self.seed, key).random(self._shape(per_frame)) - 1.0)
 
     def member(self, key, group, n_members):
-        """Index of an equal-weight member, or None (centre: the mixture mean)."""
-        if not self._on(group) or n_members == 1:
+        """Index of an equal-weight member per trial, shape (n,), or None (mixture mean)."""
+        if n_members == 1 or not self._on(group, 1.0):
             return None
-        u = _key_rng(self.seed, key).random((self.n, 1))
+        u = _key_rng(self.seed, key).random(self.n)
         return np.minimum((u * n_members).astype(int), n_members - 1)
 
 
@@ -264,6 +268,12 @@ class _Variates:
 def _obj(apparent, eps, refl, tau, atm, band):
     return np.asarray(radiometry.object_temperature(apparent, eps, refl, tau, atm, band_um=band),
                       dtype=float)
+
+
+def _col(x):
+    """First frame of a per-frame array (the survey frame), kept 2-D."""
+    x = np.asarray(x, dtype=float)
+    return x if x.ndim < 2 else x[:, :1]
 
 
 def _weights(times_h):
@@ -278,8 +288,8 @@ def _weights(times_h):
 
 def _frames(view: ViewInputs, zone: ZoneInputs, series: SeriesInputs | None):
     if series is None:
-        one = np.ones(1)
-        return (one, zone.apparent_c * one, view.t_ai_c * one, view.t_ae_c * one,
+        one = np.ones((1, 1))
+        return (np.ones(1), zone.apparent_c * one, view.t_ai_c * one, view.t_ae_c * one,
                 view.reflected_c * one)
     arr = [np.asarray(x, dtype=float).ravel() for x in
            (series.times_h, series.apparent_c, series.t_ai_c, series.t_ae_c)]
@@ -287,81 +297,82 @@ def _frames(view: ViewInputs, zone: ZoneInputs, series: SeriesInputs | None):
             else np.asarray(series.reflected_c, dtype=float).ravel())
     if len({a.size for a in (*arr, refl)}) != 1 or arr[0].size < 1:
         raise ValueError("series arrays must have one equal, non-zero length")
-    return (*arr, refl)
+    return (arr[0], *(a[None, :] for a in (*arr[1:], refl)))
 
 
 def _simulate(view: ViewInputs, zone: ZoneInputs, frames, V: _Variates, tape_weight=None):
     """Per-trial U (air and environmental), surface temperature, emissivity and h_c."""
     times, app, t_ai_f, t_ae_f, refl_f = frames
     cam, vid, el = view.camera, view.view_id, zone.element
-    band = cam.band_um
-    rel = cam.relative_k
-    t_ai = (t_ai_f + view.t_ai_std_k * V.normal(f"air:{view.indoor_sensor}", "t_ai")
-            + view.air_noise_std_k * V.normal(f"air:{view.indoor_sensor}:noise", "air_noise", True))
-    t_ae = (t_ae_f + view.t_ae_std_k * V.normal(f"air:{view.outdoor_sensor}", "t_ae")
-            + view.air_noise_std_k * V.normal(f"air:{view.outdoor_sensor}:noise", "air_noise", True))
+    band, rel = cam.band_um, cam.relative_k
+    ind, outd = view.indoor_sensor, view.outdoor_sensor
+    t_ai = (t_ai_f + V.normal(f"air:{ind}", "t_ai", view.t_ai_std_k)
+            + V.normal(f"air:{ind}:noise", "air_noise", view.air_noise_std_k, True))
+    t_ae = (t_ae_f + V.normal(f"air:{outd}", "t_ae", view.t_ae_std_k)
+            + V.normal(f"air:{outd}:noise", "air_noise", view.air_noise_std_k, True))
     t_side = t_ai if view.side == "interior" else t_ae
     atm = t_side if view.atmosphere_c is None else np.full((1, 1), float(view.atmosphere_c))
-    tau = np.clip(view.transmittance + view.transmittance_std
-                  * V.normal(f"{vid}:transmittance", "transmittance"), 0.01, 1.0)
-    refl_sys = view.reflected_std_k * V.normal(f"{vid}:reflected", "reflected")
-    rel_refl = rel * V.rect(f"{vid}:reflector:relative", "camera_relative")
+    tau = np.clip(view.transmittance + V.normal(f"{vid}:transmittance", "transmittance",
+                                                view.transmittance_std), 0.01, 1.0)
+    refl_sys = V.normal(f"{vid}:reflected", "reflected", view.reflected_std_k)
+    rel_refl = V.rect(f"{vid}:reflector:relative", "camera_relative", rel)
 
     def eps_draw(key_el, value, std):
-        z = V.normal(f"{vid}:{key_el}:emissivity", "emissivity")
-        return np.clip(value + std * z, 0.01, 1.0)
+        return np.clip(value + V.normal(f"{vid}:{key_el}:emissivity", "emissivity", std),
+                       0.01, 1.0)
 
     eps_prior = eps_draw(el, zone.emissivity, zone.emissivity_std)
     eps = eps_prior
     use_tape = view.tape is not None and view.tape_element in ("", el)
     if cam.offset_std_k is not None:
-        offset = cam.offset_k + cam.offset_std_k * V.normal(f"camera:{cam.id}:offset",
-                                                            "camera_offset")
+        offset = cam.offset_k + V.normal(f"camera:{cam.id}:offset", "camera_offset",
+                                         cam.offset_std_k)
     else:
-        offset = cam.accuracy_k * V.rect(f"camera:{cam.id}:offset", "camera_offset")
-    probe_draws = [(p, p.surface_c + p.surface_std_k * V.normal(f"{vid}:probe{k}", "probe"),
-                    rel * V.rect(f"{vid}:probe{k}:relative", "camera_relative"),
-                    cam.noise_k / math.sqrt(p.n_pixels) * V.normal(f"{vid}:probe{k}:noise",
-                                                                   "camera_noise"),
+        offset = V.rect(f"camera:{cam.id}:offset", "camera_offset", cam.accuracy_k)
+    probe_draws = [(p, p.surface_c + V.normal(f"{vid}:probe{k}", "probe", p.surface_std_k),
+                    V.rect(f"{vid}:probe{k}:relative", "camera_relative", rel)
+                    + V.normal(f"{vid}:probe{k}:noise", "camera_noise",
+                               cam.noise_k / math.sqrt(p.n_pixels)),
                     None if p.element == el else eps_draw(p.element or f"probe{k}", p.emissivity,
                                                           p.emissivity_std))
                    for k, p in enumerate(view.probes)]
     if use_tape:
         tp = view.tape
-        tape_eps = np.clip(tp.tape_emissivity + tp.tape_emissivity_std
-                           * V.normal(f"{vid}:tape:emissivity", "tape"), 0.01, 1.0)
-        tape_err = [rel * V.rect(f"{vid}:tape:relative{i}", "camera_relative")
-                    + cam.noise_k / math.sqrt(tp.n_pixels)
-                    * V.normal(f"{vid}:tape:noise{i}", "camera_noise") for i in (0, 1)]
+        tape_eps = np.clip(tp.tape_emissivity + V.normal(f"{vid}:tape:emissivity", "tape",
+                                                         tp.tape_emissivity_std), 0.01, 1.0)
+        tape_err = [V.rect(f"{vid}:tape:relative{i}", "camera_relative", rel)
+                    + V.normal(f"{vid}:tape:noise{i}", "camera_noise",
+                               cam.noise_k / math.sqrt(tp.n_pixels)) for i in (0, 1)]
     tape_info = None
+    atm0, tau0 = _col(atm), tau
+    refl_c = view.reflected_c + refl_sys - ((offset + rel_refl) if view.reflected_by_camera else 0.0)
     for _ in range(3 if (probe_draws and (view.reflected_by_camera or use_tape)) else 1):
-        refl_c = view.reflected_c + refl_sys - ((offset + rel_refl) if view.reflected_by_camera
-                                                else 0.0)
         if probe_draws:
-            deltas = [p.apparent_c - e_rel - e_noise - radiometry.apparent_temperature(
-                t_true, eps if eps_p is None else eps_p, refl_c, tau, atm[:, :1], band_um=band)
-                for p, t_true, e_rel, e_noise, eps_p in probe_draws]
+            deltas = [p.apparent_c - err - radiometry.apparent_temperature(
+                t_true, eps if eps_p is None else eps_p, refl_c, tau0, atm0, band_um=band)
+                for p, t_true, err, eps_p in probe_draws]
             offset = np.mean(deltas, axis=0)
             refl_c = view.reflected_c + refl_sys - ((offset + rel_refl)
                                                     if view.reflected_by_camera else 0.0)
         if use_tape:
             e_tape, t_tape = tape_emissivity_samples(
-                tp.tape_apparent_c - offset - tape_err[0], tp.surface_apparent_c - offset
-                - tape_err[1], refl_c, tape_eps, tau, atm[:, :1], band)
+                tp.tape_apparent_c - offset - tape_err[0],
+                tp.surface_apparent_c - offset - tape_err[1], refl_c, tape_eps, tau0, atm0, band)
             tape_info = (e_tape, t_tape - refl_c)
             w = tape_weight if tape_weight is not None else 0.0
             eps = np.clip(w * np.nan_to_num(e_tape, nan=zone.emissivity)
                           + (1.0 - w) * eps_prior, 0.01, 1.0)
     # zone surface temperature, frame by frame
     refl = refl_c + (refl_f - view.reflected_c)
-    noise = cam.noise_k / math.sqrt(zone.n_pixels) * V.normal(f"{vid}:{el}:noise",
-                                                              "camera_noise", True)
-    a_zone = app - offset - rel * V.rect(f"{vid}:{el}:relative", "camera_relative") - noise
+    a_zone = (app - offset - V.rect(f"{vid}:{el}:relative", "camera_relative", rel)
+              - V.normal(f"{vid}:{el}:noise", "camera_noise",
+                         cam.noise_k / math.sqrt(zone.n_pixels), True))
     t_s = _obj(a_zone, eps, refl, tau, atm, band)
     if view.mrt_c is None:
-        mrt = refl + view.mrt_std_k * V.normal(f"{vid}:mrt", "mrt")
+        mrt = refl + V.normal(f"{vid}:mrt", "mrt", view.mrt_std_k)
     else:
-        mrt = view.mrt_c + view.mrt_std_k * V.normal(f"{vid}:mrt", "mrt") + (refl_f - view.reflected_c)
+        mrt = (view.mrt_c + V.normal(f"{vid}:mrt", "mrt", view.mrt_std_k)
+               + (refl_f - view.reflected_c))
     ts_k, mrt_k = t_s + T0_K, mrt + T0_K
     h_r = eps * SIGMA * (ts_k**2 + mrt_k**2) * (ts_k + mrt_k)
     if view.side == "interior":
@@ -370,15 +381,14 @@ def _simulate(view: ViewInputs, zone: ZoneInputs, frames, V: _Variates, tape_wei
         if flux is None:
             q = h_c * (t_ai - t_s) + h_r * (mrt - t_s)
         else:
-            h_tot = _flux_h_total(view, zone, flux, V, offset, refl_c, eps, tau, atm, t_ai)
-            q = h_tot * (t_ai - t_s)
+            q = _flux_h_total(view, flux, V, offset, refl_c, eps, tau0, atm0, t_ai) * (t_ai - t_s)
         t_env_i = films.environmental_temperature(t_ai, mrt, h_c, h_r)
         t_env_e = _exterior_environment(view, t_ae, V)
     else:
-        wind = np.abs(view.wind_m_s + view.wind_std_m_s * V.normal("weather:wind", "wind"))
+        wind = np.abs(view.wind_m_s + V.normal("weather:wind", "wind", view.wind_std_m_s))
         t_sky = ((view.t_ae_c if view.t_sky_c is None else view.t_sky_c)
-                 + view.t_sky_std_k * V.normal("weather:sky", "t_sky") + (t_ae_f - view.t_ae_c))
-        h_c = _h_exterior(view, wind, V)
+                 + V.normal("weather:sky", "t_sky", view.t_sky_std_k) + (t_ae_f - view.t_ae_c))
+        h_c = _h_exterior(view, np.asarray(wind, dtype=float), V)
         q = tr.heat_flux_exterior(t_s, t_ae, eps, h_c, t_sky_c=t_sky, t_ground_c=t_ae,
                                   f_sky=view.f_sky)
         t_env_i = t_ai
@@ -397,56 +407,68 @@ def _simulate(view: ViewInputs, zone: ZoneInputs, frames, V: _Variates, tape_wei
                 tape=tape_info)
 
 
+def _by_member(func, members, idx, *args):
+    """Evaluate member idx[k] for trial k only (rows of the broadcast arguments)."""
+    shape = np.broadcast_shapes((idx.size, 1), *(np.shape(a) for a in args))
+    full = [np.broadcast_to(a, shape) for a in args]
+    out = np.empty(shape)
+    for m, name in enumerate(members):
+        rows = idx == m
+        if rows.any():
+            out[rows] = func(name, *(a[rows] for a in full))
+    return out
+
+
 def _h_conv(zone: ZoneInputs, t_s, t_ai, V: _Variates):
     ens = zone.convection
     if not isinstance(ens, convection.Ensemble):
         h = float(ens)
         if h <= 0:
             raise ValueError(f"a fixed h_c must be positive, got {h}")
-        return np.full(np.broadcast_shapes(t_s.shape, np.shape(t_ai)), h)
-    hs = convection.ensemble_coefficients(ens, t_s, t_ai)
+        return np.full(np.broadcast_shapes(np.shape(t_s), np.shape(t_ai)), h)
+    kw = dict(heat_flow=ens.heat_flow, height_m=ens.height_m,
+              hydraulic_diameter_m=ens.hydraulic_diameter_m, tilt_deg=ens.tilt_deg)
     idx = V.member(f"convection:{ens.name}:member", "h_c", len(ens.members))
-    h = _pick(hs, idx)
-    return h * (1.0 + ens.band * V.rect(f"convection:{ens.name}:factor", "h_c"))
-
-
-def _pick(hs, idx):
-    """Member idx per trial from stacked member values (mixture mean when idx is None)."""
     if idx is None:
-        return np.mean(hs, axis=0)
-    shape = np.broadcast_shapes(hs.shape[1:], idx.shape)
-    hs = np.broadcast_to(hs, (hs.shape[0], *shape))
-    return np.take_along_axis(hs, np.broadcast_to(idx, shape)[None], axis=0)[0]
+        h = np.mean(convection.ensemble_coefficients(ens, t_s, t_ai), axis=0)
+    else:
+        h = _by_member(lambda m, ts, ta: convection.interior_coefficient(m, ts, ta, **kw),
+                       ens.members, idx, t_s, t_ai)
+    return h * (1.0 + V.rect(f"convection:{ens.name}:factor", "h_c", ens.band))
 
 
 def _h_exterior(view: ViewInputs, wind, V: _Variates):
-    hs = np.stack([np.broadcast_to(films.convective_coefficient(m, wind_m_s=wind), wind.shape)
-                   for m in view.exterior_convection])
-    h = _pick(hs, V.member("convection:exterior:member", "h_c", len(hs)))
-    return h * (1.0 + view.exterior_band * V.rect("convection:exterior:factor", "h_c"))
+    idx = V.member("convection:exterior:member", "h_c", len(view.exterior_convection))
+    if idx is None:
+        h = np.mean([films.convective_coefficient(m, wind_m_s=wind)
+                     for m in view.exterior_convection], axis=0)
+    else:
+        h = _by_member(lambda m, v: films.convective_coefficient(m, wind_m_s=v),
+                       view.exterior_convection, idx, wind)
+    return h * (1.0 + V.rect("convection:exterior:factor", "h_c", view.exterior_band))
 
 
 def _exterior_environment(view: ViewInputs, t_ae, V: _Variates):
     """Outdoor environmental temperature for an interior view (ISO 6946 exterior films)."""
     t_sky = ((view.t_ae_c if view.t_sky_c is None else view.t_sky_c)
-             + view.t_sky_std_k * V.normal("weather:sky", "t_sky") + (t_ae - view.t_ae_c))
+             + V.normal("weather:sky", "t_sky", view.t_sky_std_k) + (t_ae - view.t_ae_c))
     t_mrt_e = view.f_sky * t_sky + (1.0 - view.f_sky) * t_ae
     h_ce = 4.0 + 4.0 * view.wind_m_s
     h_re = films.radiative_coefficient(t_ae, t_mrt_e, view.exterior_emissivity)
     return films.environmental_temperature(t_ae, t_mrt_e, h_ce, h_re)
 
 
-def _flux_h_total(view, zone, flux: FluxSpot, V, offset, refl, eps, tau, atm, t_ai):
+def _flux_h_total(view, flux: FluxSpot, V, offset, refl, eps, tau, atm, t_ai):
     vid, cam = view.view_id, view.camera
-    q = flux.q_w_m2 + flux.q_std_w_m2 * V.normal(f"{vid}:flux:q", "flux")
+    q = flux.q_w_m2 + V.normal(f"{vid}:flux:q", "flux", flux.q_std_w_m2)
     if flux.surface_c is not None:
-        t_spot = flux.surface_c + flux.surface_std_k * V.normal(f"{vid}:flux:surface", "flux")
+        t_spot = flux.surface_c + V.normal(f"{vid}:flux:surface", "flux", flux.surface_std_k)
     else:
         e = eps if flux.emissivity is None else flux.emissivity
-        a = (flux.apparent_c - offset - cam.relative_k * V.rect(f"{vid}:flux:relative",
-                                                                 "camera_relative"))
-        t_spot = _obj(a, e, refl, tau, atm[:, :1], cam.band_um)
-    return q / (t_ai[:, :1] - t_spot)
+        a = flux.apparent_c - offset - V.rect(f"{vid}:flux:relative", "camera_relative",
+                                              cam.relative_k)
+        t_spot = _obj(a, e, refl, tau, atm, cam.band_um)
+    return q / (_col(t_ai) - t_spot)
 
 
 # ----------------------------------------------------------------------------- estimates
@@ -510,11 +532,12 @@ def _estimate(view, zone, series, n_draws, seed, budget, keep_draws):
     shares = {}
     if budget:
         var = {}
+        n_b = min(n_draws, max(2000, 200_000 // nf))  # shares need fewer draws than quantiles
         for g in V.groups:
-            ug = _simulate(view, zone, frames, _Variates(seed, n_draws, nf, active={g}), w_tape)["u"]
+            ug = _simulate(view, zone, frames, _Variates(seed, n_b, nf, active={g}), w_tape)["u"]
             var[g] = float(np.nanvar(ug)) if np.size(ug) > 1 else 0.0
         total = sum(var.values())
-        shares = {g: (v / total if total > 0 else 0.0) for g, v in var.items()}
+        shares = {g: v / total for g, v in var.items() if total > 0 and v > 1e-9 * total}
     if view.probes:
         notes.append(f"{len(view.probes)} contact-probe spot(s) give the camera offset "
                      f"{float(np.mean(sim['offset'])):+.2f} K")
