@@ -85,14 +85,15 @@ class DynamicResult:
 
 
 def _design(t_i, t_e, dt_s, taus_s, p):
-    """Design matrix rows i = p..N-1 (columns U, K1, K2, P_1..P_m, Q_1..Q_m)."""
+    """Design matrix rows i = p+1..N-1 (columns U, K1, K2, P_1..P_m, Q_1..Q_m)."""
     n = t_i.size
-    rows = np.arange(p, n)
-    cols = [t_i[rows] - t_e[rows], (t_i[rows] - t_i[rows - 1]) / dt_s,
-            (t_e[rows] - t_e[rows - 1]) / dt_s]
+    rows = np.arange(p + 1, n)
+    rate_i = np.diff(t_i, prepend=np.nan) / dt_s  # backward differences, rate[j] at sample j
+    rate_e = np.diff(t_e, prepend=np.nan) / dt_s
+    cols = [t_i[rows] - t_e[rows], rate_i[rows], rate_e[rows]]
     lags = np.arange(1, p + 1)  # i - j for j = i-1 ... i-p
-    hist_i = np.stack([t_i[rows - k] for k in lags], axis=1)
-    hist_e = np.stack([t_e[rows - k] for k in lags], axis=1)
+    hist_i = np.stack([rate_i[rows - k] for k in lags], axis=1)
+    hist_e = np.stack([rate_e[rows - k] for k in lags], axis=1)
     for series in (hist_i, hist_e):
         for tau in taus_s:
             beta = math.exp(-dt_s / tau)
@@ -102,7 +103,7 @@ def _design(t_i, t_e, dt_s, taus_s, p):
 
 def _fit(q, t_i, t_e, dt_s, taus_s, p):
     x = _design(t_i, t_e, dt_s, taus_s, p)
-    y = q[p:]
+    y = q[p + 1:]
     scale = np.linalg.norm(x, axis=0)
     scale[scale == 0] = 1.0
     coef, *_ = np.linalg.lstsq(x / scale, y, rcond=None)
@@ -128,10 +129,11 @@ def dynamic_method(times_h, q_w_m2, t_i_c, t_e_c, *, n_tau=2, ratio=5.0, history
     ratio : float
         tau_{n+1} = tau_n / ratio.
     history_h : float, optional
-        History window p dt [h]; default a quarter of the series.
+        History window p dt [h]; default half the series (the regression then uses the
+        second half as equations; a shorter window truncates the element's memory).
     tau_grid_h : array_like, optional
         Trial values of the longest time constant [h]; default 30 values log-spaced from
-        2 dt to history_h / 3.
+        2 dt to history_h / 3 (so the weights have decayed to e^-3 at the window's end).
     tol : float
         Relative tolerance of the criteria (0.05).
 
@@ -141,14 +143,17 @@ def dynamic_method(times_h, q_w_m2, t_i_c, t_e_c, *, n_tau=2, ratio=5.0, history
 
     Notes
     -----
-    For i = p .. N-1 (M = N - p equations):
-    q_i = U (T_I,i - T_E,i) + K1 dT_I,i/dt + K2 dT_E,i/dt
-    + sum_n P_n sum_{k=1..p} T_I,i-k (1 - b_n) b_n^k + sum_n Q_n sum_{k=1..p} T_E,i-k (1 - b_n) b_n^k,
-    b_n = exp(-dt / tau_n), rates as backward differences. The 2m + 3 unknowns are found by
+    For i = p+1 .. N-1 (M = N - p - 1 equations), with T' the backward-difference rate:
+    q_i = U (T_I,i - T_E,i) + K1 T'_I,i + K2 T'_E,i
+    + sum_n P_n sum_{k=1..p} T'_I,i-k (1 - b_n) b_n^k + sum_n Q_n sum_{k=1..p} T'_E,i-k (1 - b_n) b_n^k,
+    b_n = exp(-dt / tau_n): the rates and their exponentially weighted histories carry the
+    stored heat and vanish in steady state, where q = U (T_I - T_E). The 2m + 3 unknowns are found by
     linear least squares (columns scaled) for each trial tau_1; the tau_1 with the smallest
     residual sum of squares S^2 is kept. u(U) = sqrt(S^2 / (M - 2m - 3) [(X'X)^-1]_11) and the
     95 % interval uses Student's t with M - 2m - 3 degrees of freedom (the usual least-squares
-    statistic; the standard states an equivalent form).
+    statistic; the standard states an equivalent form). That interval is the fit's own: it
+    treats residuals as random, so it leaves out the measurement uncertainty of q and the
+    temperatures, and the model's truncation; propagate those apart.
 
     Criteria: ``dynamic_interval``, the 95 % half-width at most 5 % of U (after ISO 9869-1,
     from memory); ``dynamic_stability``, U from the series without its first quarter within
@@ -175,11 +180,11 @@ def dynamic_method(times_h, q_w_m2, t_i_c, t_e_c, *, n_tau=2, ratio=5.0, history
     if t.size < 8 or np.any(step <= 0) or np.ptp(step) > 1e-6 * step.mean():
         raise ValueError("dynamic_method needs >= 8 evenly spaced, increasing samples")
     dt_h = float(step.mean())
-    hist = (t[-1] - t[0]) / 4.0 if history_h is None else float(history_h)
+    hist = (t[-1] - t[0]) / 2.0 if history_h is None else float(history_h)
     p = max(2, int(round(hist / dt_h)))
     k = 2 * n_tau + 3
-    if t.size - p <= k + 2:
-        raise ValueError(f"too few samples: {t.size - p} equations for {k} unknowns")
+    if t.size - p - 1 <= k + 2:
+        raise ValueError(f"too few samples: {t.size - p - 1} equations for {k} unknowns")
     grid = (np.geomspace(2 * dt_h, max(p * dt_h / 3.0, 3 * dt_h), 30) if tau_grid_h is None
             else _f(tau_grid_h))
     dt_s = dt_h * 3600.0
@@ -196,9 +201,11 @@ def dynamic_method(times_h, q_w_m2, t_i_c, t_e_c, *, n_tau=2, ratio=5.0, history
     s2, t1, coef, x = best
     m_eq = x.shape[0]
     dof = m_eq - k
-    xs = x / np.linalg.norm(x, axis=0)
+    norms = np.linalg.norm(x, axis=0)
+    norms[norms == 0] = 1.0
+    xs = x / norms
     cov_s = np.linalg.pinv(xs.T @ xs)
-    var_u = s2 / dof * cov_s[0, 0] / np.linalg.norm(x[:, 0]) ** 2
+    var_u = s2 / dof * cov_s[0, 0] / norms[0] ** 2
     u_val, u_std = float(coef[0]), math.sqrt(max(var_u, 0.0))
     half = float(stats.t.ppf(0.975, dof)) * u_std
     cut = t.size // 4
