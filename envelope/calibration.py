@@ -37,6 +37,7 @@ __all__ = [
     "tape_emissivity_samples",
     "tape_emissivity",
     "combine_emissivity",
+    "robust_std",
     "total_coefficient_from_flux",
 ]
 
@@ -200,6 +201,17 @@ def camera_offset_from_probes(probes: Sequence[ProbeSpot], reflected_c, *, trans
 
 
 # ----------------------------------------------------------------------------- tape
+def robust_std(draws) -> float:
+    """Half the 15.87–84.13 % range of the finite draws (the standard deviation for a normal
+    distribution; finite for the heavy-tailed ratio of a poorly conditioned tape)."""
+    x = np.asarray(draws, dtype=float).ravel()
+    x = x[np.isfinite(x)]
+    if x.size < 3:
+        return float("inf")
+    lo, hi = np.quantile(x, [0.158655, 0.841345])
+    return float(0.5 * (hi - lo))
+
+
 def tape_emissivity_samples(tape_apparent_c, surface_apparent_c, reflected_c, tape_emissivity,
                             transmittance=1.0, atmosphere_c=None,
                             band_um=radiometry.DEFAULT_BAND_UM):
@@ -258,7 +270,8 @@ class TapeEmissivity:
     """A view's emissivity after its tape (or the prior, when the tape was refused).
 
     ``emissivity``/``emissivity_std`` are what the image path should use everywhere for that
-    surface (maps, fRsi, defects, U). ``tape_*`` describe the tape alone; ``weight`` is its
+    surface (maps, fRsi, defects, U). ``tape_*`` describe the tape alone (its spread as
+    :func:`robust_std`: a poorly conditioned tape has heavy tails); ``weight`` is its
     share in the combination (0 when refused); ``contrast_k`` is |T_tape - T_refl| and
     ``contrast_std_k`` its standard uncertainty; ``note`` says what was done, in words.
     """
@@ -335,8 +348,7 @@ def tape_emissivity(tape: TapeSpot, reflected_c, prior_emissivity, prior_std, *,
     e0, t0 = float(e0), float(t0)
     contrast = abs(t0 - reflected_c)
     contrast_std = float(np.std(t_tape - refl, ddof=1))
-    ok = np.isfinite(eps)
-    tape_std = float(np.std(eps[ok], ddof=1)) if ok.sum() > 2 else float("inf")
+    tape_std = robust_std(eps)
     if not (np.isfinite(e0) and contrast >= TAPE_CONTRAST_RATIO * contrast_std):
         note = (f"tape refused: its contrast with the reflected temperature, {contrast:.2f} K, "
                 f"is below {TAPE_CONTRAST_RATIO:g} x its uncertainty ({contrast_std:.2f} K); "

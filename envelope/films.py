@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from envelope.constants import P_ATM_PA, SIGMA, T0_K  # noqa: F401  (re-exported)
+from envelope.constants import SIGMA, T0_K  # noqa: F401  (re-exported)
 
 #: Standard gravity [m s-2].
 G_M_S2 = 9.80665
@@ -307,7 +307,7 @@ BM_HOURLY = 0.013
 #: Pressure term of Berdahl & Martin (1984) [per mbar above 1000 mbar].
 BM_PRESSURE_PER_MBAR = 0.00012
 #: Mean of cos(2 pi t / 24) over a night from 18:00 to 06:00 (2 / pi): the night-mean hourly
-#: term is +0.013 x 0.637 = +0.0083, used when no survey time is given.
+#: term is +0.013 x 0.637 = +0.0083 (not zero).
 NIGHT_MEAN_COS = 2.0 / np.pi
 
 
@@ -316,15 +316,19 @@ def _clear_sky_berdahl_martin(t_air_k, dew_point_c, hour_local, pressure_pa):
         raise ValueError("sky model 'berdahl_martin' needs dew_point_c")
     x = np.asarray(dew_point_c, dtype=float) / 100.0
     if hour_local is None:
+        cos_term = 0.0
+    elif isinstance(hour_local, str):
+        if hour_local != "night":
+            raise ValueError(f"hour_local must be an hour 0-24 or 'night', got {hour_local!r}")
         cos_term = NIGHT_MEAN_COS
     else:
         h = np.asarray(hour_local, dtype=float)
         if np.any((h < 0) | (h > 24)):
             raise ValueError(f"hour_local must lie in [0, 24], got {hour_local}")
         cos_term = np.cos(2.0 * np.pi * h / 24.0)
-    p_mbar = np.asarray(pressure_pa, dtype=float) / 100.0
-    return (0.711 + 0.56 * x + 0.73 * x**2 + BM_HOURLY * cos_term
-            + BM_PRESSURE_PER_MBAR * (p_mbar - 1000.0))
+    p_term = 0.0 if pressure_pa is None else BM_PRESSURE_PER_MBAR * (
+        np.asarray(pressure_pa, dtype=float) / 100.0 - 1000.0)
+    return 0.711 + 0.56 * x + 0.73 * x**2 + BM_HOURLY * cos_term + p_term
 
 
 def _clear_sky_swinbank(t_air_k, dew_point_c, hour_local, pressure_pa):
@@ -337,7 +341,7 @@ SKY_MODELS = tuple(_SKY)
 
 def sky_temperature(
     t_air_c, dew_point_c=None, cloud_oktas=0, model="berdahl_martin", cloud_base_m=2000.0,
-    hour_local=None, pressure_pa=P_ATM_PA,
+    hour_local=None, pressure_pa=None,
 ):
     """Effective sky temperature for long-wave exchange [°C].
 
@@ -354,12 +358,14 @@ def sky_temperature(
         T_sky = 0.0552 T_air^1.5 (K) [2].
     cloud_base_m : float
         Cloud-base height [m] for the cloud correction (2000 m gives the common factor 0.784).
-    hour_local : array_like, optional
-        Local solar time of the survey [h, 0–24] for the hourly term of [1]. None: the mean of
-        that term over a night from 18:00 to 06:00 (+0.0083).
-    pressure_pa : array_like
-        Station pressure [Pa] for the pressure term of [1] (default the standard atmosphere:
-        +0.0016).
+    hour_local : array_like or "night", optional
+        Local solar time of the survey [h, 0–24] for the hourly term of [1] (pass it: the
+        pipeline has the survey time); "night" uses the term's mean over 18:00–06:00
+        (+0.0083). None leaves the term out, as earlier versions did: at night that sky is
+        then 0.8 K (night mean) to 1.2 K (midnight) too cold at 0 °C.
+    pressure_pa : array_like, optional
+        Station pressure [Pa] for the pressure term of [1]; None leaves it out (the standard
+        atmosphere would add +0.0016).
 
     Returns
     -------

@@ -43,6 +43,7 @@ from envelope.calibration import (
     FluxSpot,
     ProbeSpot,
     TapeSpot,
+    robust_std,
     tape_emissivity_samples,
 )
 from envelope.constants import SIGMA, T0_K
@@ -503,7 +504,7 @@ def _tape_weight(view, zone, sim):
         return 0.0, (f"tape refused: contrast with the reflected temperature {c_mean:.2f} K is "
                      f"below {TAPE_CONTRAST_RATIO:g} x its uncertainty ({c_std:.2f} K); declared "
                      f"emissivity {zone.emissivity:g} ± {zone.emissivity_std:g} kept")
-    t_std = float(np.std(e_tape[ok], ddof=1))
+    t_std = robust_std(e_tape)
     p_std = zone.emissivity_std
     w = p_std**2 / (p_std**2 + t_std**2) if p_std > 0 or t_std > 0 else 0.0
     return w, (f"tape: emissivity {float(np.mean(e_tape[ok])):.3f} ± {t_std:.3f} (contrast "

@@ -11,9 +11,8 @@ import numpy as np
 import pytest
 from scipy.linalg import lu_factor, lu_solve
 
-from envelope import dynamic
+from envelope import dynamic, validity
 from envelope import transmittance as tr
-from envelope import validity
 
 # (thickness m, conductivity W/mK, density kg/m3, specific heat J/kgK), inside -> outside
 INSULATED = [(0.013, 0.57, 1300, 1000), (0.05, 0.035, 30, 1030), (0.2, 1.35, 2300, 880)]

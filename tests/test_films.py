@@ -141,13 +141,14 @@ def test_sky_temperature_models():
     assert _eps(t_sky, t_air) == pytest.approx(0.711, rel=1e-9)
     midnight = films.sky_temperature(t_air, dew_point_c=0.0, hour_local=0.0, pressure_pa=1e5)
     assert _eps(midnight, t_air) == pytest.approx(0.711 + 0.013, rel=1e-9)
-    # without a survey time: the term's mean over 18:00-06:00, 0.013 * 2/pi (not zero)
-    night = films.sky_temperature(t_air, dew_point_c=0.0, pressure_pa=1e5)
+    # "night": the term's mean over 18:00-06:00, 0.013 * 2/pi (not zero); no time: left out
+    night = films.sky_temperature(t_air, dew_point_c=0.0, hour_local="night", pressure_pa=1e5)
     assert _eps(night, t_air) == pytest.approx(0.711 + 0.013 * 2 / np.pi, rel=1e-9)
+    assert _eps(films.sky_temperature(t_air, dew_point_c=0.0), t_air) == pytest.approx(0.711)
     # the hourly term at midnight warms a clear sky by about 1.2 K at 0-5 °C (issue 14)
     assert 1.1 < midnight - t_sky < 1.4
     # pressure term at the standard atmosphere (1013.25 mbar): +0.00159
-    std = films.sky_temperature(t_air, dew_point_c=0.0, hour_local=6.0)
+    std = films.sky_temperature(t_air, dew_point_c=0.0, hour_local=6.0, pressure_pa=101325.0)
     assert _eps(std, t_air) == pytest.approx(0.711 + 0.00012 * 13.25, rel=1e-9)
     # Martin & Berdahl cloud term with factor 0.784 for an overcast sky (as in the California
     # ACM equation eps = eps0 + 0.784 (1 - eps0) C/10, common practice).
@@ -164,6 +165,8 @@ def test_sky_temperature_models():
         films.sky_temperature(5.0, model="x")
     with pytest.raises(ValueError, match="hour_local"):
         films.sky_temperature(5.0, dew_point_c=0.0, hour_local=25.0)
+    with pytest.raises(ValueError, match="night"):
+        films.sky_temperature(5.0, dew_point_c=0.0, hour_local="noon")
     assert films.ground_temperature(3.0) == 3.0
 
 

@@ -22,13 +22,19 @@ the distributions the survey states; probes and same-camera reflectors in some s
 import math
 
 import numpy as np
-import pytest
 from scipy.optimize import brentq
 
 from envelope import convection, films, radiometry
 from envelope.calibration import ProbeSpot
 from envelope.constants import SIGMA, T0_K
-from envelope.uncertainty import Camera, SeriesInputs, ViewInputs, ZoneInputs, estimate_series_u, estimate_u
+from envelope.uncertainty import (
+    Camera,
+    SeriesInputs,
+    ViewInputs,
+    ZoneInputs,
+    estimate_series_u,
+    estimate_u,
+)
 
 G = 9.80665
 
