@@ -150,8 +150,9 @@ def air_properties(t_c, p_pa=101325.0):
     if np.any(t <= 0):
         raise ValueError(f"air temperature must be above -273.15 °C, got {np.min(t_c)}")
     rho = p_pa / (R_AIR * t)
-    mu = _MU0 * (t / _T_MU0) ** 1.5 * (_T_MU0 + _S_MU) / (t + _S_MU)
-    k = _K0 * (t / _T_K0) ** 1.5 * (_T_K0 + _S_K) / (t + _S_K)
+    t15 = t * np.sqrt(t)  # T^1.5, computed once for both Sutherland laws
+    mu = _MU0 / _T_MU0**1.5 * t15 * (_T_MU0 + _S_MU) / (t + _S_MU)
+    k = _K0 / _T_K0**1.5 * t15 * (_T_K0 + _S_K) / (t + _S_K)
     cp = np.full_like(t, CP_AIR)
     nu = mu / rho
     alpha = k / (rho * cp)
@@ -177,7 +178,7 @@ def churchill_chu_nusselt(ra, pr):
     """
     ra = np.asarray(ra, dtype=float)
     psi = (1.0 + (0.492 / np.asarray(pr, dtype=float)) ** (9.0 / 16.0)) ** (8.0 / 27.0)
-    return (0.825 + 0.387 * np.abs(ra) ** (1.0 / 6.0) / psi) ** 2
+    return (0.825 + 0.387 * np.sqrt(np.cbrt(np.abs(ra))) / psi) ** 2
 
 
 def _h_iso6946(direction, **_):
@@ -222,7 +223,10 @@ def convective_coefficient(
 
     Parameters
     ----------
-    model : {"iso6946", "churchill_chu", "iso6946_wind", "mcadams", "watmuff"}
+    model : {"iso6946", "churchill_chu", "iso6946_wind", "mcadams", "watmuff", ...}
+        Any interior model of :data:`envelope.convection.MODELS` is accepted too
+        ("alamdari_hammond", "khalifa_marshall", "horizontal_plate", "iso15099"; ``direction``
+        is then the heat-flow direction that sets the configuration).
         "iso6946": conventional interior h_ci of ISO 6946:2017 Annex C (upward 5.0,
         horizontal 2.5, downward 0.7). "churchill_chu": natural convection on a vertical
         plate of height ``height_m`` driven by |t_s_c - t_a_c|, properties at the film
@@ -259,7 +263,15 @@ def convective_coefficient(
     [5] Duffie, J. A., Beckman, W. A., Solar Engineering of Thermal Processes, 4th ed.,
         Wiley, 2013, Sec. 3.15 (after Watmuff, Charters and Proctor, 1977).
     """
-    func = _choose(_CONVECTIVE, model, "convective model")
+    from envelope import convection
+
+    if model in convection.MODELS and model not in _CONVECTIVE:
+        if t_s_c is None or t_a_c is None:
+            raise ValueError(f"model {model!r} needs t_s_c and t_a_c")
+        return convection.interior_coefficient(model, t_s_c, t_a_c, heat_flow=direction,
+                                               height_m=height_m)
+    valid = {**dict.fromkeys(convection.MODELS), **_CONVECTIVE}
+    func = _choose(valid, model, "convective model")
     out = func(direction=direction, t_s_c=t_s_c, t_a_c=t_a_c, height_m=height_m, wind_m_s=wind_m_s)
     out = np.asarray(out, dtype=float)
     if t_s_c is not None and np.ndim(t_s_c) and out.ndim == 0:
@@ -290,14 +302,36 @@ def surface_resistance(side="interior", direction="horizontal"):
 
 
 # ----------------------------------------------------------------------------- sky
-def _clear_sky_berdahl_martin(t_air_k, dew_point_c):
+#: Amplitude of the hourly term of Berdahl & Martin (1984) [-]: +0.013 cos(2 pi t / 24).
+BM_HOURLY = 0.013
+#: Pressure term of Berdahl & Martin (1984) [per mbar above 1000 mbar].
+BM_PRESSURE_PER_MBAR = 0.00012
+#: Mean of cos(2 pi t / 24) over a night from 18:00 to 06:00 (2 / pi): the night-mean hourly
+#: term is +0.013 x 0.637 = +0.0083 (not zero).
+NIGHT_MEAN_COS = 2.0 / np.pi
+
+
+def _clear_sky_berdahl_martin(t_air_k, dew_point_c, hour_local, pressure_pa):
     if dew_point_c is None:
         raise ValueError("sky model 'berdahl_martin' needs dew_point_c")
     x = np.asarray(dew_point_c, dtype=float) / 100.0
-    return 0.711 + 0.56 * x + 0.73 * x**2
+    if hour_local is None:
+        cos_term = 0.0
+    elif isinstance(hour_local, str):
+        if hour_local != "night":
+            raise ValueError(f"hour_local must be an hour 0-24 or 'night', got {hour_local!r}")
+        cos_term = NIGHT_MEAN_COS
+    else:
+        h = np.asarray(hour_local, dtype=float)
+        if np.any((h < 0) | (h > 24)):
+            raise ValueError(f"hour_local must lie in [0, 24], got {hour_local}")
+        cos_term = np.cos(2.0 * np.pi * h / 24.0)
+    p_term = 0.0 if pressure_pa is None else BM_PRESSURE_PER_MBAR * (
+        np.asarray(pressure_pa, dtype=float) / 100.0 - 1000.0)
+    return 0.711 + 0.56 * x + 0.73 * x**2 + BM_HOURLY * cos_term + p_term
 
 
-def _clear_sky_swinbank(t_air_k, dew_point_c):
+def _clear_sky_swinbank(t_air_k, dew_point_c, hour_local, pressure_pa):
     return (0.0552 * t_air_k**1.5 / t_air_k) ** 4
 
 
@@ -306,7 +340,8 @@ SKY_MODELS = tuple(_SKY)
 
 
 def sky_temperature(
-    t_air_c, dew_point_c=None, cloud_oktas=0, model="berdahl_martin", cloud_base_m=2000.0
+    t_air_c, dew_point_c=None, cloud_oktas=0, model="berdahl_martin", cloud_base_m=2000.0,
+    hour_local=None, pressure_pa=None,
 ):
     """Effective sky temperature for long-wave exchange [°C].
 
@@ -319,11 +354,18 @@ def sky_temperature(
     cloud_oktas : array_like
         Cloud cover in oktas, 0 (clear) to 8 (overcast).
     model : {"berdahl_martin", "swinbank"}
-        Clear-sky emissivity: Berdahl & Martin (1984) eps0 = 0.711 + 0.56 (Tdp/100) +
-        0.73 (Tdp/100)^2 (Tdp in °C, night-time mean: the hourly cosine and pressure terms
-        are left out) [1]; Swinbank (1963) T_sky = 0.0552 T_air^1.5 (K) [2].
+        Clear-sky emissivity: Berdahl & Martin (1984) [1], Eq. in Notes; Swinbank (1963)
+        T_sky = 0.0552 T_air^1.5 (K) [2].
     cloud_base_m : float
         Cloud-base height [m] for the cloud correction (2000 m gives the common factor 0.784).
+    hour_local : array_like or "night", optional
+        Local solar time of the survey [h, 0–24] for the hourly term of [1] (pass it: the
+        pipeline has the survey time); "night" uses the term's mean over 18:00–06:00
+        (+0.0083). None leaves the term out, as earlier versions did: at night that sky is
+        then 0.8 K (night mean) to 1.2 K (midnight) too cold at 0 °C.
+    pressure_pa : array_like, optional
+        Station pressure [Pa] for the pressure term of [1]; None leaves it out (the standard
+        atmosphere would add +0.0016).
 
     Returns
     -------
@@ -331,12 +373,18 @@ def sky_temperature(
 
     Notes
     -----
-    T_sky = eps^(1/4) T_air. Cloud correction of Martin & Berdahl (1984) for one opaque
-    layer: eps = eps0 + (1 - eps0) n Gamma, n = oktas / 8, Gamma = exp(-z_c / 8200 m) [3].
+    Berdahl & Martin [1]: eps0 = 0.711 + 0.56 (Tdp/100) + 0.73 (Tdp/100)^2
+    + 0.013 cos(2 pi t/24) + 0.00012 (P - 1000), Tdp the dew point in °C, t the hour from
+    midnight, P in mbar. The hourly term is largest at midnight (+0.013: about 1.2 K warmer
+    sky than without it at 0 °C), zero at 06:00 and 18:00; its mean over the night hours is
+    +0.013 x 2/pi. T_sky = eps^(1/4) T_air. Cloud correction of Martin & Berdahl (1984) for
+    one opaque layer: eps = eps0 + (1 - eps0) n Gamma, n = oktas / 8,
+    Gamma = exp(-z_c / 8200 m) [3].
 
     References
     ----------
-    [1] Berdahl, P., Martin, M., Emissivity of clear skies, Solar Energy 32 (1984) 663-664.
+    [1] Berdahl, P., Martin, M., Emissivity of clear skies, Solar Energy 32 (1984) 663-664,
+        doi:10.1016/0038-092X(84)90144-0.
     [2] Swinbank, W. C., Long-wave radiation from clear skies, Q. J. R. Meteorol. Soc. 89
         (1963) 339-348.
     [3] Martin, M., Berdahl, P., Characteristics of infrared sky radiation in the United
@@ -346,7 +394,7 @@ def sky_temperature(
     n = np.asarray(cloud_oktas, dtype=float)
     if np.any((n < 0) | (n > 8)):
         raise ValueError(f"cloud_oktas must be in 0..8, got {cloud_oktas}")
-    eps0 = _choose(_SKY, model, "sky model")(t, dew_point_c)
+    eps0 = _choose(_SKY, model, "sky model")(t, dew_point_c, hour_local, pressure_pa)
     eps = np.clip(eps0 + (1.0 - eps0) * (n / 8.0) * np.exp(-cloud_base_m / 8200.0), 0.0, 1.0)
     out = eps**0.25 * t - T0_K
     return out if np.ndim(out) else float(out)
@@ -382,3 +430,43 @@ def view_factors(tilt_deg):
     if f_sky.ndim == 0:
         return float(f_sky), float(f_gnd)
     return f_sky, f_gnd
+
+
+# ----------------------------------------------------------------------------- environment
+def environmental_temperature(t_air_c, t_mrt_c, h_c, h_r):
+    """Environmental (operative-type) temperature of one side of an element [°C].
+
+    Parameters
+    ----------
+    t_air_c : array_like
+        Air temperature [°C].
+    t_mrt_c : array_like
+        Mean radiant temperature seen by the surface [°C] (exterior: the sky/ground mix
+        f_sky T_sky + (1 - f_sky) T_ground).
+    h_c, h_r : array_like
+        Convective and radiative film coefficients [W m-2 K-1].
+
+    Returns
+    -------
+    float or numpy.ndarray
+
+    Notes
+    -----
+    T_env = (h_c T_air + h_r T_mrt) / (h_c + h_r): the single temperature that, with the
+    total film coefficient h_c + h_r, gives the same surface heat flux as the separate
+    convective and radiative exchanges (linearised radiation). Design U-values of
+    ISO 6946 are defined with surface resistances Rsi, Rse = 1 / (h_c + h_r) that refer the
+    heat flow to such temperatures on each side (ISO 6946:2017 §6.8 and Annex C, from
+    memory); an in-situ U referred to air temperatures differs from it by the radiant
+    asymmetry of the survey night.
+
+    References
+    ----------
+    [1] ISO 6946:2017, Annex C.
+    [2] CIBSE Guide A, Environmental design, 2015, §5 (environmental temperature), from memory.
+    """
+    hc, hr = np.asarray(h_c, dtype=float), np.asarray(h_r, dtype=float)
+    if np.any(hc + hr <= 0):
+        raise ValueError("h_c + h_r must be positive")
+    out = (hc * np.asarray(t_air_c, dtype=float) + hr * np.asarray(t_mrt_c, dtype=float)) / (hc + hr)
+    return out if np.ndim(out) else float(out)

@@ -171,6 +171,63 @@ def u_exterior(t_se_c, t_ae_c, t_ai_c, emissivity, h_c, t_sky_c=None, t_ground_c
         return _out(np.asarray(q) / (_f(t_ai_c) - _f(t_ae_c)))
 
 
+class UDefinitions(NamedTuple):
+    """U of one heat flux by two definitions [W m-2 K-1] and the temperatures behind them."""
+
+    u_air_w_m2k: float
+    u_environmental_w_m2k: float
+    t_env_i_c: float
+    t_env_e_c: float
+
+
+def u_by_definition(q_w_m2, t_ai_c, t_ae_c, *, t_mrt_i_c, h_ci, h_ri, t_mrt_e_c=None,
+                    h_ce=None, h_re=None):
+    """U referred to air temperatures and to environmental temperatures.
+
+    Parameters
+    ----------
+    q_w_m2 : array_like
+        Heat flux through the element (interior surface balance, or measured) [W m-2].
+    t_ai_c, t_ae_c : array_like
+        Indoor and outdoor air temperatures [°C].
+    t_mrt_i_c : array_like
+        Mean radiant temperature seen by the interior surface [°C].
+    h_ci, h_ri : array_like
+        Interior convective and radiative coefficients [W m-2 K-1].
+    t_mrt_e_c : array_like, optional
+        Radiant temperature outside (f_sky T_sky + (1 - f_sky) T_ground) [°C]; default the
+        outdoor air (overcast night, the exterior environment is the air).
+    h_ce, h_re : array_like, optional
+        Exterior coefficients [W m-2 K-1]; needed when ``t_mrt_e_c`` differs from the air.
+
+    Returns
+    -------
+    UDefinitions
+        (u_air, u_environmental, T_env,i, T_env,e).
+
+    Notes
+    -----
+    U_air = q / (T_ai - T_ae): what the in-situ methods of this module return.
+    U_env = q / (T_env,i - T_env,e), T_env = (h_c T_air + h_r T_mrt) / (h_c + h_r)
+    (:func:`envelope.films.environmental_temperature`): the definition behind design values
+    computed with ISO 6946 surface resistances (ISO 6946:2017 Annex C, from memory). Inside,
+    surfaces colder than the air make T_env,i < T_ai, so U_env > U_air; a clear sky makes
+    T_env,e < T_ae and works the other way. A design (specified) value is compared with U_env.
+    """
+    t_env_i = films.environmental_temperature(t_ai_c, t_mrt_i_c, h_ci, h_ri)
+    if t_mrt_e_c is None:
+        t_env_e = _f(t_ae_c)
+    else:
+        if h_ce is None or h_re is None:
+            raise ValueError("h_ce and h_re are needed with t_mrt_e_c")
+        t_env_e = films.environmental_temperature(t_ae_c, t_mrt_e_c, h_ce, h_re)
+    q = _f(q_w_m2)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        u_air = q / (_f(t_ai_c) - _f(t_ae_c))
+        u_env = q / (_f(t_env_i) - _f(t_env_e))
+    return UDefinitions(_out(u_air), _out(u_env), _out(_f(t_env_i)), _out(_f(t_env_e)))
+
+
 # ----------------------------------------------------------------------------- average method
 @dataclass(frozen=True)
 class AverageMethodResult:

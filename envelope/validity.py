@@ -239,3 +239,90 @@ def worst(checks: Iterable[Check]) -> str:
     """The worst status among checks ("pass" when there are none)."""
     order = {s: i for i, s in enumerate(STATUSES)}
     return max((c.status for c in checks), key=order.__getitem__, default="pass")
+
+
+#: Areal heat capacity [kJ m-2 K-1] above which ISO 9869-1 treats an element as heavy: its
+#: test must then cover whole days (ISO 9869-1:2014 §6.3, value from memory).
+HEAVY_KJ_M2K = 20.0
+#: Minimum duration of an ISO 9869-1 test [h] (from memory).
+SERIES_MIN_H = 72.0
+#: Share of the driving temperature difference by which the outdoor temperature the element
+#: still answers to (lagged) may differ from the current one: <= 5 % pass (the size of ISO
+#: 9869-1's storage criterion, from memory), <= 15 % warn, above fail (ours).
+STORAGE_PASS = 0.05
+STORAGE_WARN = 0.15
+
+
+def check_series_period(duration_h, heat_capacity_kj_m2k=None, interval_h=None):
+    """ISO 9869-1 period rules for a series: at least 72 h, whole days for heavy elements.
+
+    Parameters
+    ----------
+    duration_h : float
+        Time covered by the series [h].
+    heat_capacity_kj_m2k : float, optional
+        Areal heat capacity of the element [kJ m-2 K-1]; unknown -> at best "warn".
+    interval_h : float, optional
+        Sampling interval [h]: the tolerance on "whole days" (default 1 h).
+
+    Returns
+    -------
+    Check
+        Named "iso9869_period"; value the duration in days.
+
+    Notes
+    -----
+    After ISO 9869-1:2014 §6.3 (from memory): a test lasts at least 72 h; for a heavy
+    element (areal heat capacity above 20 kJ/(m2 K)) it lasts a whole number of days so that
+    the daily swing of stored heat cancels; a light element may be analysed on night data.
+    A night survey therefore fails this check for a heavy wall and says so.
+    """
+    d = float(duration_h)
+    tol = 1.0 if interval_h is None else float(interval_h)
+    whole = abs(d - 24.0 * round(d / 24.0)) <= tol and d >= 24.0 - tol
+    long_enough = d >= SERIES_MIN_H - tol
+    if heat_capacity_kj_m2k is None:
+        status = "warn" if long_enough else "fail"
+        kind = "heat capacity unknown (heat_capacity_kj_m2k)"
+    elif heat_capacity_kj_m2k > HEAVY_KJ_M2K:
+        status = "pass" if long_enough and whole else "fail"
+        kind = f"heavy element ({heat_capacity_kj_m2k:g} kJ/m²K > {HEAVY_KJ_M2K:g})"
+    else:
+        status = "pass" if long_enough else "fail"
+        kind = f"light element ({heat_capacity_kj_m2k:g} kJ/m²K <= {HEAVY_KJ_M2K:g})"
+    return Check("iso9869_period", status, d / 24.0, "d",
+                 f"{kind}: >= {SERIES_MIN_H:g} h, whole days for heavy elements "
+                 "(ISO 9869-1 §6.3, from memory)", scope="time_series")
+
+
+def check_storage(t_ai_c, t_ae_c, t_ae_lagged_c, history_span_h=None, tau_h=None):
+    """Is the element still giving up (or taking in) stored heat at the survey time?
+
+    Parameters
+    ----------
+    t_ai_c, t_ae_c : float
+        Indoor and outdoor air temperature at the survey [°C].
+    t_ae_lagged_c : float
+        Outdoor temperature lagged by the element's response
+        (:func:`envelope.dynamic.lagged_temperature`) [°C].
+    history_span_h, tau_h : float, optional
+        Span of the outdoor history and the response time [h]: a history shorter than
+        3 tau cannot pass.
+
+    Returns
+    -------
+    Check
+        Named "storage"; value |T_lag - T_ae| / |T_ai - T_lag|, the relative error of a steady
+        U referred to the current outdoor temperature.
+    """
+    denom = abs(float(t_ai_c) - float(t_ae_lagged_c))
+    v = abs(float(t_ae_lagged_c) - float(t_ae_c)) / denom if denom > 0 else float("nan")
+    status = _grade(v, v <= STORAGE_PASS, v <= STORAGE_WARN)
+    short = (history_span_h is not None and tau_h is not None and history_span_h < 3.0 * tau_h)
+    if status == "pass" and short:
+        status = "warn"
+    return Check("storage", status, v, "-",
+                 f"outdoor temperature the element answers to (lagged) within {STORAGE_PASS:.0%} "
+                 f"of the driving difference pass, {STORAGE_WARN:.0%} warn (ours; 5 % as ISO "
+                 "9869-1's storage criterion, from memory); a history shorter than 3 response "
+                 "times cannot pass", scope="element")

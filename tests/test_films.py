@@ -128,16 +128,33 @@ def test_convective_models_and_errors():
     assert set(films.MODELS) >= {"iso6946", "churchill_chu", "iso6946_wind", "mcadams"}
 
 
+def _eps(t_sky, t_air):
+    return ((t_sky + 273.15) / (t_air + 273.15)) ** 4
+
+
 def test_sky_temperature_models():
-    # Berdahl & Martin (1984): clear-sky emissivity 0.711 at a dew point of 0 °C.
+    # Berdahl & Martin (1984): eps0 = 0.711 + 0.56 x + 0.73 x^2 + 0.013 cos(2 pi t/24)
+    # + 0.00012 (P - 1000), x = Tdp/100. At a dew point of 0 °C, 06:00 (cos = 0) and
+    # 1000 mbar it is 0.711 exactly; at midnight 0.724.
     t_air = 5.0
-    t_sky = films.sky_temperature(t_air, dew_point_c=0.0)
-    assert ((t_sky + 273.15) / (t_air + 273.15)) ** 4 == pytest.approx(0.711, rel=1e-9)
+    t_sky = films.sky_temperature(t_air, dew_point_c=0.0, hour_local=6.0, pressure_pa=1e5)
+    assert _eps(t_sky, t_air) == pytest.approx(0.711, rel=1e-9)
+    midnight = films.sky_temperature(t_air, dew_point_c=0.0, hour_local=0.0, pressure_pa=1e5)
+    assert _eps(midnight, t_air) == pytest.approx(0.711 + 0.013, rel=1e-9)
+    # "night": the term's mean over 18:00-06:00, 0.013 * 2/pi (not zero); no time: left out
+    night = films.sky_temperature(t_air, dew_point_c=0.0, hour_local="night", pressure_pa=1e5)
+    assert _eps(night, t_air) == pytest.approx(0.711 + 0.013 * 2 / np.pi, rel=1e-9)
+    assert _eps(films.sky_temperature(t_air, dew_point_c=0.0), t_air) == pytest.approx(0.711)
+    # the hourly term at midnight warms a clear sky by about 1.2 K at 0-5 °C (issue 14)
+    assert 1.1 < midnight - t_sky < 1.4
+    # pressure term at the standard atmosphere (1013.25 mbar): +0.00159
+    std = films.sky_temperature(t_air, dew_point_c=0.0, hour_local=6.0, pressure_pa=101325.0)
+    assert _eps(std, t_air) == pytest.approx(0.711 + 0.00012 * 13.25, rel=1e-9)
     # Martin & Berdahl cloud term with factor 0.784 for an overcast sky (as in the California
     # ACM equation eps = eps0 + 0.784 (1 - eps0) C/10, common practice).
-    t_cloudy = films.sky_temperature(t_air, dew_point_c=0.0, cloud_oktas=8)
-    eps = ((t_cloudy + 273.15) / (t_air + 273.15)) ** 4
-    assert eps == pytest.approx(0.711 + 0.784 * (1 - 0.711), abs=1e-3)
+    t_cloudy = films.sky_temperature(t_air, dew_point_c=0.0, cloud_oktas=8, hour_local=6.0,
+                                     pressure_pa=1e5)
+    assert _eps(t_cloudy, t_air) == pytest.approx(0.711 + 0.784 * (1 - 0.711), abs=1e-3)
     # Swinbank (1963): T_sky = 0.0552 T_air^1.5 (K).
     assert films.sky_temperature(10.0, model="swinbank") + 273.15 == pytest.approx(
         0.0552 * 283.15**1.5, rel=1e-12
@@ -146,7 +163,20 @@ def test_sky_temperature_models():
         films.sky_temperature(5.0)
     with pytest.raises(ValueError, match="swinbank"):
         films.sky_temperature(5.0, model="x")
+    with pytest.raises(ValueError, match="hour_local"):
+        films.sky_temperature(5.0, dew_point_c=0.0, hour_local=25.0)
+    with pytest.raises(ValueError, match="night"):
+        films.sky_temperature(5.0, dew_point_c=0.0, hour_local="noon")
     assert films.ground_temperature(3.0) == 3.0
+
+
+def test_environmental_temperature():
+    # T_env = (h_c T_a + h_r T_r) / (h_c + h_r) (CIBSE Guide A); by hand: (2*21 + 5*19.6)/7.
+    assert films.environmental_temperature(21.0, 19.6, 2.0, 5.0) == pytest.approx(20.0)
+    # radiant = air: the environmental temperature is the air temperature
+    assert films.environmental_temperature(21.0, 21.0, 2.5, 5.1) == pytest.approx(21.0)
+    with pytest.raises(ValueError, match="positive"):
+        films.environmental_temperature(21.0, 19.0, 0.0, 0.0)
 
 
 @given(st.floats(0, 180))

@@ -216,3 +216,20 @@ def test_element_u_errors():
         tr.element_u(t, np.ones((3, 3), bool), None, **kw)
     with pytest.raises(ValueError, match="reference"):
         tr.element_u(t, np.ones((4, 4), bool), np.zeros((4, 4), bool), **kw)
+
+
+def test_u_by_definition():
+    # By hand: q = 10 W/m2, air 21 / 1 °C -> U_air = 0.5. Inside, h_c 2 and h_r 5 with the
+    # surroundings at 19.6 °C give T_env,i = (2*21 + 5*19.6)/7 = 20.0 (CIBSE Guide A form);
+    # outside overcast (radiant = air): T_env,e = 1 -> U_env = 10/19.
+    d = tr.u_by_definition(10.0, 21.0, 1.0, t_mrt_i_c=19.6, h_ci=2.0, h_ri=5.0)
+    assert d.u_air_w_m2k == pytest.approx(0.5)
+    assert d.t_env_i_c == pytest.approx(20.0)
+    assert d.u_environmental_w_m2k == pytest.approx(10.0 / 19.0)
+    # a clear sky outside lowers T_env,e and U_env (ISO 6946 exterior films: h_ce 8, h_re 4.6)
+    clear = tr.u_by_definition(10.0, 21.0, 1.0, t_mrt_i_c=19.6, h_ci=2.0, h_ri=5.0,
+                               t_mrt_e_c=-5.0, h_ce=8.0, h_re=4.6)
+    assert clear.t_env_e_c == pytest.approx((8 * 1.0 + 4.6 * -5.0) / 12.6)
+    assert clear.u_environmental_w_m2k < d.u_environmental_w_m2k
+    with pytest.raises(ValueError, match="h_ce"):
+        tr.u_by_definition(10.0, 21.0, 1.0, t_mrt_i_c=19.6, h_ci=2.0, h_ri=5.0, t_mrt_e_c=-5.0)

@@ -106,3 +106,22 @@ def test_downgrade_keeps_numbers_and_only_demotes_pass():
 def test_check_rejects_bad_status():
     with pytest.raises(ValueError, match="status"):
         v.Check("x", "maybe", 1.0, "K", "rule")
+
+
+def test_series_period_rules():
+    # ISO 9869-1 §6.3 (from memory): >= 72 h; whole days for elements above 20 kJ/(m2 K).
+    night = v.check_series_period(11.5, heat_capacity_kj_m2k=300.0, interval_h=0.5)
+    assert night.status == "fail" and night.name == "iso9869_period"
+    assert v.check_series_period(96.0, 300.0).status == "pass"
+    assert v.check_series_period(84.0, 300.0).status == "fail"  # 3.5 days, heavy
+    assert v.check_series_period(84.0, 12.0).status == "pass"  # light: any 72 h+
+    assert v.check_series_period(96.0).status == "warn"  # capacity unknown
+    assert v.check_series_period(96.0).value == pytest.approx(4.0)
+
+
+def test_storage_check_grades():
+    # value = |T_lag - T_ae| / |T_ai - T_lag|: 0.4/19.6 pass, 1.6/20.0 warn, 4/20 fail.
+    assert v.check_storage(21.0, 1.0, 1.4).status == "pass"
+    assert v.check_storage(21.0, 1.0, 1.4, history_span_h=6, tau_h=8).status == "warn"
+    assert v.check_storage(21.0, -0.6, 1.0).status == "warn"
+    assert v.check_storage(21.0, -3.0, 1.0).status == "fail"

@@ -20,7 +20,7 @@ from envelope.survey import Camera, Conditions, Element, Thermogram
 from envelope.views import ViewData
 
 __all__ = ["DEFAULT_EMISSIVITY", "emissivity_of", "view_homography", "path_conditions",
-           "blackbody_readings", "object_temperatures", "view_offset", "correct_image",
+           "blackbody_readings", "object_temperatures", "probe_spots", "view_offset", "correct_image",
            "correct_view"]
 
 DEFAULT_EMISSIVITY = 0.93
@@ -96,48 +96,39 @@ def object_temperatures(apparent_c, emissivity, reflected_c, tau, atm_c, band_um
     return np.asarray(out, dtype=np.float32)
 
 
-def _probe_pixels(tg: Thermogram, apparent_c, survey_file: str):
-    rows_cols = []
+def probe_spots(tg: Thermogram, apparent_c, eps_map, regions=None,
+                survey_file: str = "survey.toml") -> tuple[calibration.ProbeSpot, ...]:
+    """The view's contact probes as spots: the camera's 3 × 3 px reading (no offset removed),
+    the probe's temperature and uncertainty, and the element under it."""
+    spots = []
     for i, p in enumerate(tg.probes):
-        rc = calibration.spot_pixel(p.pixel_xy, apparent_c.shape)
         where = f"thermograms[{tg.id}].probes[{i}].pixel_xy"
+        rc = calibration.spot_pixel(p.pixel_xy, apparent_c.shape)
         if rc is None:
             h, w = apparent_c.shape
             raise SurveyError(f"probe pixel {list(p.pixel_xy)} lies outside the {w}×{h} px "
                               "frame", survey_file, where)
-        if not np.isfinite(calibration.spot_mean(apparent_c, *rc)):
+        reading = calibration.spot_mean(apparent_c, *rc)
+        if not np.isfinite(reading):
             raise SurveyError("probe pixel has no valid reading around it", survey_file, where)
-        rows_cols.append(rc)
-    return rows_cols
+        element = next((n for n, r in (regions or {}).items() if r.mask[rc]), "")
+        spots.append(calibration.ProbeSpot(reading, p.surface_c, p.uncertainty_k,
+                                           float(eps_map[rc]), element=element))
+    return tuple(spots)
 
 
 def view_offset(tg: Thermogram, apparent_c, eps_map, tau: float, atm_c: float, camera: Camera,
-                survey_file: str) -> tuple[calibration.Offset, Thermogram]:
-    """The view's camera offset and its thermogram with the reflected temperature as used.
-
-    Notes
-    -----
-    With ``reflected_by_camera`` the reflected apparent temperature was read with the same
-    camera (reflector method), so it carries the same offset: it is corrected too, and the
-    offset found again with the corrected value (two fixed-point steps; the probe's expected
-    reading depends on the reflected temperature through (1 − ε) only).
-    """
-    rows_cols = _probe_pixels(tg, apparent_c, survey_file)
-    args = dict(probe_rows_cols=rows_cols, probe_surface_c=[p.surface_c for p in tg.probes],
-                probe_std_k=[p.uncertainty_k for p in tg.probes], emissivity_map=eps_map,
-                transmittance=tau, atmosphere_c=atm_c, band_um=camera.band_um,
-                relative_accuracy_k=camera.relative_accuracy_k,
-                survey_offset_k=camera.offset_k,
-                survey_offset_std_k=camera.offset_uncertainty_k)
-    offset = calibration.camera_offset(apparent_c, reflected_c=tg.reflected_c, **args)
-    if tg.reflected_by_camera and offset.value_k:
-        declared = tg.reflected_c
-        for _ in range(2):
-            tg = dataclasses.replace(tg, reflected_c=declared - offset.value_k)
-            offset = calibration.camera_offset(apparent_c, reflected_c=tg.reflected_c, **args)
-        offset = dataclasses.replace(offset, source=offset.source + (
-            f"; reflected temperature read with the same camera: {declared:.2f} → "
-            f"{tg.reflected_c:.2f} °C"))
+                survey_file: str, regions=None) -> tuple[calibration.Offset, Thermogram]:
+    """The view's camera offset and its thermogram with the reflected temperature as used
+    (corrected for the offset when it was read with the same camera)."""
+    spots = probe_spots(tg, apparent_c, eps_map, regions, survey_file)
+    offset, refl = calibration.view_offset(
+        spots, tg.reflected_c, transmittance=tau, atmosphere_c=atm_c, band_um=camera.band_um,
+        reflected_by_camera=tg.reflected_by_camera, relative_accuracy_k=camera.relative_accuracy_k,
+        noise_k=camera.noise_k, survey_offset_k=camera.offset_k,
+        survey_offset_std_k=camera.offset_uncertainty_k)
+    if refl != tg.reflected_c:
+        tg = dataclasses.replace(tg, reflected_c=refl)
     return offset, tg
 
 
