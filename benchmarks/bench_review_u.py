@@ -146,7 +146,7 @@ def finding_6(out):
     for t_r in (20.5, 19.6, 18.5):
         h_c, h_r = 1.8, films.radiative_coefficient(18.0, t_r, 0.93)
         d = tr.u_by_definition(0.3 * 20.0, 21.0, 1.0, t_mrt_i_c=t_r, h_ci=h_c, h_ri=h_r)
-        out[f"f6_u_env_over_u_air_mrt{t_r:g}"] = d.u_environmental_w_m2k / d.u_air_w_m2k
+        out[f"f6_u_env_over_u_air_mrt{t_r:g}"] = d.u_env_w_m2k / d.u_air_w_m2k
 
 
 def finding_7(out):

@@ -167,7 +167,8 @@ def assess_survey(survey: Survey, *, source: ViewSource | None = None,
         if missing:
             notes.append("elements not seen in any assessed thermogram (left out of the heat "
                          "loss): " + ", ".join(missing))
+        draws = {(v.thermogram.id, name): d for v in ordered for name, d in v.u_draws.items()}
         energy = energy_case(elements, ranked, survey.measures, c, survey.climate,
-                             survey.prices, notes, sfile)
+                             survey.prices, notes, sfile, draws, survey.analysis.seed)
     return Assessment(survey, checks, mould, cond, ordered, elements, ranked, tuple(series),
                       energy, tuple(failures), tuple(notes))

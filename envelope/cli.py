@@ -55,10 +55,16 @@ def _warn_to_stderr(quiet: bool):
 
 
 class Convection(StrEnum):
-    """Interior convective coefficient model (see envelope.films.convective_coefficient)."""
+    """Interior convection: the ensemble of correlations that fit each surface, or one model
+    (see envelope.convection)."""
 
+    ensemble = "ensemble"
     iso6946 = "iso6946"
     churchill_chu = "churchill_chu"
+    alamdari_hammond = "alamdari_hammond"
+    khalifa_marshall = "khalifa_marshall"
+    horizontal_plate = "horizontal_plate"
+    iso15099 = "iso15099"
 
 
 class _Progress:
@@ -212,7 +218,7 @@ def assess(
     quiet: QuietOpt = False,
     json_out: Annotated[bool, typer.Option("--json", help="Print a summary as JSON on stdout (for scripts).")] = False,
     draws: Annotated[int | None, typer.Option("--draws", min=100, help="Monte Carlo draws per element (overrides analysis.monte_carlo_draws of the survey).")] = None,
-    convection: Annotated[Convection | None, typer.Option("--convection", help="Interior h_c model [W/(m²·K)]: ISO 6946 conventional values or Churchill–Chu natural convection (overrides analysis.interior_convection of the survey).")] = None,
+    convection: Annotated[Convection | None, typer.Option("--convection", help="Interior convection [W/(m²·K)]: the ensemble of correlations that fit each surface (default), or one model fixed (overrides analysis.interior_convection of the survey).")] = None,
 ):
     """Assess a survey: corrected temperatures, U-values with 95 % intervals, fRsi and mould/condensation risk, ranked defects, heat loss, retrofit case and the reports."""
     import dataclasses

@@ -101,6 +101,7 @@ def _element(e, a) -> dict:
     d = dataclasses.asdict(e)
     d["checks"] = [_check(ch) for ch in e.checks]
     d["budget"] = _budget(e.budget)
+    d["narrowing"] = [{"contributor": c, "share": s, "remedy": r} for c, s, r in e.narrowing]
     d["frsi_limit_mould"] = a.limit_mould.value if a.limit_mould else None
     d["frsi_limit_condensation"] = a.limit_condensation.value if a.limit_condensation else None
     return d
@@ -144,7 +145,10 @@ def _heat_loss(energy) -> dict | None:
     d = b.heat_loss.to_dict()
     d.update(q_survey_w=b.q_survey_w, q_design_w=b.q_design_w, design_indoor_c=b.design_indoor_c,
              design_outdoor_c=b.design_outdoor_c, hdd_kd=b.hdd_kd, annual_kwh=b.annual_kwh,
-             annual_kwh_std=b.annual_kwh_std)
+             annual_kwh_std=b.annual_kwh_std, h_low95_w_k=b.h_low95_w_k,
+             h_high95_w_k=b.h_high95_w_k, h_std_independent_w_k=b.h_std_independent_w_k)
+    if b.h_std_w_k is not None:
+        d["h_std_w_k"] = b.h_std_w_k
     return d
 
 

@@ -30,7 +30,8 @@ SIDES = ("interior", "exterior")
 HEAT_FLOW = ("horizontal", "upward", "downward")
 MEASURE_KINDS = ("add_layer", "replace_glazing", "seal_leak", "fix_bridge", "repair_defect")
 HUMIDITY_MODELS = ("measured", "humidity_class", "moisture_production")
-INTERIOR_CONVECTION = ("iso6946", "churchill_chu")
+INTERIOR_CONVECTION = ("ensemble", "iso6946", "churchill_chu", "alamdari_hammond",
+                       "khalifa_marshall", "horizontal_plate", "iso15099")
 EXTERIOR_CONVECTION = ("iso6946_wind", "mcadams", "watmuff")
 SKY_MODELS = ("berdahl_martin", "swinbank")
 FRSI_CRITERIA = ("iso13788", "bre-ip1-06-dwellings", "din-4108-2")
@@ -118,7 +119,7 @@ class Prices:
 class Analysis:
     """Method choices; every field has a default."""
 
-    interior_convection: str = "iso6946"
+    interior_convection: str = "ensemble"
     exterior_convection: str = "iso6946_wind"
     sky_model: str = "berdahl_martin"
     monte_carlo_draws: int = 20000
@@ -488,7 +489,7 @@ def load_survey(folder: str | Path) -> Survey:
     )
     a = top.sub("analysis", tuple(Analysis.__dataclass_fields__), {})
     analysis = Analysis(
-        a.str("interior_convection", "iso6946", INTERIOR_CONVECTION),
+        a.str("interior_convection", "ensemble", INTERIOR_CONVECTION),
         a.str("exterior_convection", "iso6946_wind", EXTERIOR_CONVECTION),
         a.str("sky_model", "berdahl_martin", SKY_MODELS), a.int("monte_carlo_draws", 20000, 100, 1_000_000),
         a.int("seed", 20261201, 0), a.num("defect_threshold", 0.03, 0.0, 0.5, "-"),

@@ -175,7 +175,7 @@ class UDefinitions(NamedTuple):
     """U of one heat flux by two definitions [W m-2 K-1] and the temperatures behind them."""
 
     u_air_w_m2k: float
-    u_environmental_w_m2k: float
+    u_env_w_m2k: float
     t_env_i_c: float
     t_env_e_c: float
 
@@ -203,7 +203,7 @@ def u_by_definition(q_w_m2, t_ai_c, t_ae_c, *, t_mrt_i_c, h_ci, h_ri, t_mrt_e_c=
     Returns
     -------
     UDefinitions
-        (u_air, u_environmental, T_env,i, T_env,e).
+        (u_air, u_env, T_env,i, T_env,e).
 
     Notes
     -----

@@ -76,7 +76,7 @@ class UResult:
 
     ``u_w_m2k`` is the mean of the valid draws (JCGM 101 §7.6) referred to air temperatures,
     ``u_best_w_m2k`` the model at the best estimates, ``u_low95_w_m2k``/``u_high95_w_m2k``
-    the probabilistically symmetric 95 % interval (§7.7). ``u_environmental_*`` is the same
+    the probabilistically symmetric 95 % interval (§7.7). ``u_env_*`` is the same
     heat flux referred to environmental temperatures (the definition of ISO 6946 design
     values). ``budget`` gives each input group's share of the variance (one group at a time,
     normalised); ``advice`` what would narrow the interval. ``draws`` holds the per-trial U
@@ -88,9 +88,9 @@ class UResult:
     u_std_w_m2k: float
     u_low95_w_m2k: float
     u_high95_w_m2k: float
-    u_environmental_w_m2k: float
-    u_environmental_low95_w_m2k: float
-    u_environmental_high95_w_m2k: float
+    u_env_w_m2k: float
+    u_env_low95_w_m2k: float
+    u_env_high95_w_m2k: float
     emissivity: float
     emissivity_std: float
     t_si_c: float
@@ -459,8 +459,8 @@ def _estimate(view, zone, series, n_draws, seed, budget, keep_draws):
     return UResult(
         u_w_m2k=float(np.mean(u[ok])), u_best_w_m2k=float(nominal["u"][0]),
         u_std_w_m2k=float(np.std(u[ok], ddof=1)), u_low95_w_m2k=float(lo),
-        u_high95_w_m2k=float(hi), u_environmental_w_m2k=float(np.mean(u_env[ok])),
-        u_environmental_low95_w_m2k=float(elo), u_environmental_high95_w_m2k=float(ehi),
+        u_high95_w_m2k=float(hi), u_env_w_m2k=float(np.mean(u_env[ok])),
+        u_env_low95_w_m2k=float(elo), u_env_high95_w_m2k=float(ehi),
         emissivity=float(np.mean(eps_all)), emissivity_std=float(np.std(eps_all, ddof=1)),
         t_si_c=float(np.mean(t_s)), t_si_std_k=t_s_std, h_c_w_m2k=float(np.mean(h_c)),
         h_c_std_w_m2k=float(np.std(h_c, ddof=1)), h_c_members=members,

@@ -225,11 +225,11 @@ def test_u_by_definition():
     d = tr.u_by_definition(10.0, 21.0, 1.0, t_mrt_i_c=19.6, h_ci=2.0, h_ri=5.0)
     assert d.u_air_w_m2k == pytest.approx(0.5)
     assert d.t_env_i_c == pytest.approx(20.0)
-    assert d.u_environmental_w_m2k == pytest.approx(10.0 / 19.0)
+    assert d.u_env_w_m2k == pytest.approx(10.0 / 19.0)
     # a clear sky outside lowers T_env,e and U_env (ISO 6946 exterior films: h_ce 8, h_re 4.6)
     clear = tr.u_by_definition(10.0, 21.0, 1.0, t_mrt_i_c=19.6, h_ci=2.0, h_ri=5.0,
                                t_mrt_e_c=-5.0, h_ce=8.0, h_re=4.6)
     assert clear.t_env_e_c == pytest.approx((8 * 1.0 + 4.6 * -5.0) / 12.6)
-    assert clear.u_environmental_w_m2k < d.u_environmental_w_m2k
+    assert clear.u_env_w_m2k < d.u_env_w_m2k
     with pytest.raises(ValueError, match="h_ce"):
         tr.u_by_definition(10.0, 21.0, 1.0, t_mrt_i_c=19.6, h_ci=2.0, h_ri=5.0, t_mrt_e_c=-5.0)

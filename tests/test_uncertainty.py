@@ -216,11 +216,11 @@ def test_environmental_definition():
     z = ZoneInputs("wall", a, EPS, 0.02)
     same = estimate_u(_view(reflected_c=T_AI, reflected_std_k=0.0, t_ai_std_k=0.0, t_sky_std_k=0.0), z,
                       n_draws=N, budget=False)
-    assert same.u_environmental_w_m2k == pytest.approx(same.u_w_m2k, rel=1e-3)
+    assert same.u_env_w_m2k == pytest.approx(same.u_w_m2k, rel=1e-3)
     _, a = _scene(t_r=18.5, offset=0.0)
     cold = estimate_u(_view(reflected_c=18.5), ZoneInputs("wall", a, EPS, 0.02), n_draws=N,
                       budget=False)
-    assert cold.u_environmental_w_m2k > cold.u_w_m2k
+    assert cold.u_env_w_m2k > cold.u_w_m2k
 
 
 def test_advice_and_defect_uncertainty():

@@ -21,7 +21,7 @@ from envelope.views import ViewData
 
 __all__ = ["DEFAULT_EMISSIVITY", "emissivity_of", "view_homography", "path_conditions",
            "blackbody_readings", "object_temperatures", "probe_spots", "view_offset", "correct_image",
-           "correct_view"]
+           "view_tapes", "correct_view"]
 
 DEFAULT_EMISSIVITY = 0.93
 """Used only when neither the element, its material nor the thermogram gives one (painted
@@ -133,7 +133,7 @@ def view_offset(tg: Thermogram, apparent_c, eps_map, tau: float, atm_c: float, c
 
 
 def correct_image(readings_c, tg: Thermogram, camera: Camera, conditions: Conditions,
-                  emissivity, survey_file: str = "survey.toml"):
+                  emissivity, survey_file: str = "survey.toml", regions=None):
     """The radiometric part alone: readings as exported → surface temperatures [°C].
 
     Parameters
@@ -145,21 +145,65 @@ def correct_image(readings_c, tg: Thermogram, camera: Camera, conditions: Condit
         Survey inputs (band, offset; air temperatures and humidity).
     emissivity : float or ndarray (H, W)
         Emissivity per pixel [-].
+    regions : dict of str to ElementRegion, optional
+        Element regions: a tape on an element then sets that element's emissivity.
 
     Returns
     -------
-    (object_c, apparent_c, transmittance, atmosphere_c, offset, thermogram)
-        ``thermogram`` carries the reflected temperature as used.
+    (object_c, apparent_c, transmittance, atmosphere_c, offset, thermogram, emissivity,
+    probes, tapes)
+        ``thermogram`` carries the reflected temperature as used; ``emissivity`` is the map
+        used (tapes applied); ``probes`` and ``tapes`` the reference spots (`CorrectedView`).
     """
     band = camera.band_um
-    eps_map = np.broadcast_to(np.asarray(emissivity, dtype=np.float32), readings_c.shape)
-    apparent = blackbody_readings(readings_c, tg, band)
+    eps_map = np.array(np.broadcast_to(np.asarray(emissivity, dtype=np.float32),
+                                       readings_c.shape))
+    raw = blackbody_readings(readings_c, tg, band)
     tau, atm = path_conditions(tg, conditions, band)
-    offset, tg = view_offset(tg, apparent, eps_map, tau, atm, camera, survey_file)
-    if offset.value_k:
-        apparent = apparent - np.float32(offset.value_k)
+    probes = probe_spots(tg, raw, eps_map, regions, survey_file)
+    offset, tg = view_offset(tg, raw, eps_map, tau, atm, camera, survey_file, regions)
+    apparent = raw - np.float32(offset.value_k) if offset.value_k else raw
+    tapes = view_tapes(tg, raw, apparent, eps_map, regions or {}, offset, tau, atm, camera)
+    for name, (_, result) in tapes.items():
+        eps_map[regions[name].mask] = result.emissivity
     obj = object_temperatures(apparent, eps_map, tg.reflected_c, tau, atm, band)
-    return obj, apparent, tau, atm, offset, tg
+    return obj, apparent, tau, atm, offset, tg, eps_map, probes, tapes
+
+
+def view_tapes(tg: Thermogram, raw_c, apparent_c, eps_map, regions, offset, tau, atm_c,
+               camera: Camera) -> dict:
+    """Emissivity tapes lying (with the bare spot beside them) on an element of the view.
+
+    Returns
+    -------
+    dict
+        Element name → (TapeSpot of raw readings for the Monte Carlo, TapeEmissivity from the
+        offset-corrected readings: the emissivity the image path uses for that element, the
+        declared one when the tape was refused for too little contrast).
+    """
+    out = {}
+    for t in tg.tapes:
+        rc = calibration.spot_pixel(t.pixel_xy, raw_c.shape)
+        rs = calibration.spot_pixel(t.surface_pixel_xy, raw_c.shape)
+        if rc is None or rs is None:
+            continue
+        name = next((n for n, r in regions.items() if r.mask[rc] and r.mask[rs]), None)
+        if name is None or name in out:
+            continue
+        spot_raw = calibration.TapeSpot(calibration.spot_mean(raw_c, *rc),
+                                        calibration.spot_mean(raw_c, *rs), t.emissivity)
+        spot = calibration.TapeSpot(calibration.spot_mean(apparent_c, *rc),
+                                    calibration.spot_mean(apparent_c, *rs), t.emissivity)
+        left = (offset.std_k if offset.std_k is not None
+                else camera.accuracy_k / np.sqrt(3.0))
+        result = calibration.tape_emissivity(
+            spot, tg.reflected_c, float(eps_map[rs]), tg.emissivity_uncertainty,
+            reflected_std_k=tg.reflected_uncertainty_k, offset_std_k=left,
+            reflected_by_camera=tg.reflected_by_camera,
+            relative_accuracy_k=camera.relative_accuracy_k, noise_k=camera.noise_k,
+            transmittance=tau, atmosphere_c=atm_c, band_um=camera.band_um)
+        out[name] = (spot_raw, result)
+    return out
 
 
 def correct_view(view: ViewData, elements: Mapping[str, Element], camera: Camera,
@@ -198,10 +242,12 @@ def correct_view(view: ViewData, elements: Mapping[str, Element], camera: Camera
     for name, reg in regions.items():
         eps, eps_source[name] = emissivity_of(elements[name], tg)
         eps_map[reg.mask] = eps
-    obj, apparent, tau, atm, offset, tg = correct_image(view.readings_c, tg, camera, conditions,
-                                                        eps_map, survey_file)
+    obj, apparent, tau, atm, offset, used, eps_map, probes, tapes = correct_image(
+        view.readings_c, tg, camera, conditions, eps_map, survey_file, regions)
+    for name, (_, result) in tapes.items():
+        eps_source[name] = result.note
     checks = [validity.check_view_angle(tg.view_angle_deg)]
     if tg.hours_since_sun is not None:
         checks.append(validity.check_sun(tg.hours_since_sun, tg.side))
-    return CorrectedView(tg, obj, apparent, eps_map, eps_source, regions, view.outlines, h,
-                         area_map, tau, atm, offset, tuple(checks))
+    return CorrectedView(used, obj, apparent, eps_map, eps_source, regions, view.outlines, h,
+                         area_map, tau, atm, offset, tuple(checks), tg.reflected_c, probes, tapes)

@@ -50,6 +50,13 @@ class CorrectedView:
         Camera offset removed.
     checks : tuple of Check
         Checks of the view (viewing angle, sun).
+    reflected_declared_c : float
+        The reflected apparent temperature as the survey gives it [°C].
+    probes : tuple of calibration.ProbeSpot
+        Contact probes with the camera's raw readings (no offset removed).
+    tapes : dict
+        Element name → (calibration.TapeSpot with raw readings, calibration.TapeEmissivity):
+        an emissivity tape on that element and what it gave.
     """
 
     thermogram: Thermogram
@@ -65,6 +72,9 @@ class CorrectedView:
     atmosphere_c: float
     offset: Offset
     checks: tuple[Check, ...] = ()
+    reflected_declared_c: float | None = None
+    probes: tuple = ()
+    tapes: dict = field(default_factory=dict)
 
     @property
     def side(self) -> str:
@@ -98,10 +108,13 @@ class ElementResult:
     """U, uncertainty, temperature factor and risk of one element in one view.
 
     ``u_w_m2k`` is the U of the element's undisturbed area (its reference zone, or the
-    element without the zones of its defects); ``u_whole_w_m2k`` the area-weighted U over
-    the whole net area, defects included (the element as built), with its own Monte Carlo
-    interval (``u_whole_low95_w_m2k``...). Intervals are 95 % (JCGM 101); ``_std`` marks a
-    standard uncertainty. ``verdict`` judges the U named by ``verdict_basis``.
+    element without the zones of its defects), referred to air temperatures; ``u_env_*`` the
+    same heat flow referred to environmental temperatures (the definition of ISO 6946 design
+    values). ``u_whole_w_m2k`` is the area-weighted U over the whole net area, defects
+    included (the element as built), with its own Monte Carlo interval. Intervals are 95 %
+    (JCGM 101); ``_std`` marks a standard uncertainty. ``narrowing`` lists what would narrow
+    the interval (contributor, share of the variance, remedy). ``verdict`` judges the U
+    named by ``verdict_basis``.
     """
 
     name: str
@@ -116,18 +129,25 @@ class ElementResult:
     u_std_w_m2k: float
     u_low95_w_m2k: float
     u_high95_w_m2k: float
+    u_env_w_m2k: float
+    u_env_low95_w_m2k: float
+    u_env_high95_w_m2k: float
     u_whole_w_m2k: float
     u_whole_std_w_m2k: float | None
     u_whole_low95_w_m2k: float | None
     u_whole_high95_w_m2k: float | None
+    u_whole_env_low95_w_m2k: float | None
+    u_whole_env_high95_w_m2k: float | None
     undisturbed_share: float
     undisturbed_zone: str
     u_method: str
     h_c_model: str
     h_c_w_m2k: float
+    h_c_std_w_m2k: float
     calibrated: bool
     calibration_note: str
     budget: tuple[tuple[str, float], ...]
+    narrowing: tuple[tuple[str, float, str], ...] = ()
     u_valid: bool = True
     u_note: str = ""
     frsi_min: float | None = None
@@ -137,6 +157,7 @@ class ElementResult:
     t_si_design_c: float | None = None
     rh_si_design: float | None = None
     u_specified_w_m2k: float | None = None
+    u_specified_basis: str = "environmental"
     verdict: str | None = None
     verdict_reason: str = ""
     verdict_basis: str | None = None
@@ -148,7 +169,8 @@ class ElementResult:
 class ViewResult:
     """Everything one thermogram gave; ``status`` "assessed", "paired" (the depressurised
     image of a pressure pair, used by its baseline) or "failed" (``error`` says why).
-    ``undisturbed`` maps each element to its undisturbed pixels (`zones.undisturbed_mask`)."""
+    ``undisturbed`` maps each element to its undisturbed pixels (`zones.undisturbed_mask`),
+    ``u_draws`` to the Monte Carlo's per-trial U over them (for the joint H)."""
 
     thermogram: Thermogram
     status: str
@@ -161,6 +183,7 @@ class ViewResult:
     checks: tuple[Check, ...] = ()
     paired_with: str | None = None
     undisturbed: dict = field(default_factory=dict)
+    u_draws: dict = field(default_factory=dict)
 
     @property
     def object_c(self):
@@ -173,7 +196,11 @@ class ViewResult:
 
 @dataclass(frozen=True)
 class SeriesResult:
-    """U of one element from a logged night series (ISO 9869-1 average method)."""
+    """U of one element from a logged night series: ISO 9869-1 average method (``u_w_m2k``,
+    with the series Monte Carlo's interval), the dynamic method beside it (``u_dynamic_*``,
+    its regression interval) and, when the element's heat capacity is known, the average
+    method against the outdoor temperature lagged by the element's response time
+    (``u_lag_corrected_w_m2k``)."""
 
     id: str
     element: str
@@ -191,6 +218,11 @@ class SeriesResult:
     u_running_w_m2k: tuple[float, ...]
     times_h: tuple[float, ...]
     checks: tuple[Check, ...] = ()
+    u_dynamic_w_m2k: float | None = None
+    u_dynamic_low95_w_m2k: float | None = None
+    u_dynamic_high95_w_m2k: float | None = None
+    u_lag_corrected_w_m2k: float | None = None
+    notes: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -198,7 +230,9 @@ class HeatBalance:
     """H with its parts, heat flow at survey and design conditions, annual loss.
 
     ``heat_loss`` is an `energy.HeatLoss`; flows in W, annual figures in kWh (None when the
-    survey has no degree-days or design temperatures).
+    survey has no degree-days or design temperatures). ``h_std_w_k`` and the 95 % interval
+    come from the joint Monte Carlo over the elements' shared inputs;
+    ``h_std_independent_w_k`` is what summing the parts as independent would claim.
     """
 
     heat_loss: object
@@ -209,6 +243,10 @@ class HeatBalance:
     hdd_kd: float | None
     annual_kwh: float | None
     annual_kwh_std: float | None
+    h_std_w_k: float | None = None
+    h_low95_w_k: float | None = None
+    h_high95_w_k: float | None = None
+    h_std_independent_w_k: float | None = None
 
 
 @dataclass(frozen=True)

@@ -10,17 +10,28 @@ from __future__ import annotations
 import math
 import warnings
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
-from envelope import calibration, condensation, films, transmittance, uncertainty, validity
+from envelope import (
+    budget,
+    calibration,
+    condensation,
+    convection,
+    films,
+    readings,
+    transmittance,
+    uncertainty,
+)
 from envelope.errors import EnvelopeWarning, SurveyError
+from envelope.stages.correct import emissivity_of
 from envelope.stages.data import CorrectedView, ElementResult, SurfaceFlux
 from envelope.survey import Analysis, Camera, Climate, Conditions, Element
+from envelope.validity import check_night_sky
 
-__all__ = ["DesignConditions", "design_conditions", "surface_flux", "frsi_map",
-           "element_result"]
+__all__ = ["DesignConditions", "design_conditions", "ensemble_of", "survey_hour",
+           "surface_flux", "frsi_map", "view_inputs", "element_result"]
 
 
 @dataclass(frozen=True)
@@ -64,34 +75,51 @@ def _preliminary_zone(reg, obj) -> np.ndarray:
     return m
 
 
-def _h_c(element: Element, side: str, analysis: Analysis, conditions: Conditions,
-         t_s_c: float) -> tuple[float, str]:
-    if side == "interior":
-        model = analysis.interior_convection
-        h = films.convective_coefficient(model, direction=element.heat_flow, t_s_c=t_s_c,
-                                         t_a_c=conditions.indoor_air_c, height_m=element.height_m)
-    else:
-        model = analysis.exterior_convection
-        h = films.convective_coefficient(model, wind_m_s=conditions.wind_m_s)
-    return float(h), model
+def ensemble_of(element: Element, analysis: Analysis) -> convection.Ensemble:
+    """The interior convection ensemble of an element: the correlations that fit its
+    orientation and heat-flow direction, or the one model the survey fixes."""
+    model = analysis.interior_convection
+    return convection.interior_ensemble(
+        element.kind, element.heat_flow, height_m=element.height_m, tilt_deg=element.tilt_deg,
+        model=None if model == "ensemble" else model)
 
 
-def _sky(element: Element, conditions: Conditions, analysis: Analysis) -> tuple[float, float]:
+def survey_hour(tg, conditions: Conditions):
+    """Local time of a view [h] (its own ``time``, else the survey's), or None."""
+    for text in (getattr(tg, "time", None), getattr(conditions, "time", None)):
+        if text:
+            hh, mm = str(text).split(":")[:2]
+            return int(hh) + int(mm) / 60.0
+    return None
+
+
+def _sky(element: Element, tg, conditions: Conditions, analysis: Analysis):
     c = conditions
     dp = condensation.dew_point(c.outdoor_air_c, c.outdoor_rh if c.outdoor_rh is not None else 0.85)
+    hour = survey_hour(tg, c)
     t_sky = float(films.sky_temperature(c.outdoor_air_c, dew_point_c=dp,
-                                        cloud_oktas=c.sky_cloud_oktas, model=analysis.sky_model))
+                                        cloud_oktas=c.sky_cloud_oktas, model=analysis.sky_model,
+                                        hour_local="night" if hour is None else hour))
     f_sky, _ = films.view_factors(element.tilt_deg)
     return t_sky, float(f_sky)
+
+
+def _radiant_c(tg) -> float:
+    """Temperature the surface exchanges long-wave radiation with [°C]: the mean radiant
+    temperature when measured, else the reflected apparent temperature."""
+    mrt = getattr(tg, "mrt_c", None)
+    return float(mrt) if mrt is not None else float(tg.reflected_c)
 
 
 def surface_flux(cv: CorrectedView, elements: Mapping[str, Element], conditions: Conditions,
                  analysis: Analysis) -> SurfaceFlux:
     """Heat flux through each element's surface [W/m²], NaN outside the elements.
 
-    Interior: q = h_c (T_ai − T_si) + ε σ (T_r⁴ − T_si⁴); exterior: the exterior balance with
-    sky and ground (`transmittance.heat_flux_interior` / `heat_flux_exterior`). h_c is
-    evaluated at the mean temperature of a preliminary zone (see `_preliminary_zone`).
+    Interior: q = h_c (T_ai − T_si) + ε σ (T_mrt⁴ − T_si⁴); exterior: the exterior balance
+    with sky and ground (`transmittance.heat_flux_interior` / `heat_flux_exterior`). Interior
+    h_c is the mean of the element's convection ensemble at the mean temperature of a
+    preliminary zone (see `_preliminary_zone`): the correlations describe a whole surface's
+    boundary layer, so one coefficient per surface, not one per pixel.
     """
     obj, c = cv.object_c, conditions
     q_map = np.full(obj.shape, np.nan)
@@ -102,12 +130,18 @@ def surface_flux(cv: CorrectedView, elements: Mapping[str, Element], conditions:
         if not zone.any():
             raise SurveyError(f"element '{name}' has no valid pixel", cv.thermogram.file.name, name)
         eps = float(cv.emissivity[reg.mask][0])
-        h_c[name], models[name] = _h_c(el, cv.side, analysis, c, float(np.mean(obj[zone])))
+        t_zone = float(np.mean(obj[zone]))
         if cv.side == "interior":
-            q = transmittance.heat_flux_interior(obj, c.indoor_air_c, cv.thermogram.reflected_c,
+            ens = ensemble_of(el, analysis)
+            h_c[name] = float(np.mean(convection.ensemble_coefficients(ens, t_zone,
+                                                                       c.indoor_air_c)))
+            models[name] = ens.name
+            q = transmittance.heat_flux_interior(obj, c.indoor_air_c, _radiant_c(cv.thermogram),
                                                  eps, h_c[name])
         else:
-            sky[name] = _sky(el, c, analysis)
+            models[name] = analysis.exterior_convection
+            h_c[name] = float(films.convective_coefficient(models[name], wind_m_s=c.wind_m_s))
+            sky[name] = _sky(el, cv.thermogram, c, analysis)
             q = transmittance.heat_flux_exterior(obj, c.outdoor_air_c, eps, h_c[name],
                                                  t_sky_c=sky[name][0],
                                                  t_ground_c=films.ground_temperature(c.outdoor_air_c),
@@ -126,27 +160,51 @@ def frsi_map(cv: CorrectedView, conditions: Conditions) -> np.ndarray:
     return np.asarray(f, dtype=np.float32)
 
 
-def _reference_spots(tg, apparent_c, mask) -> uncertainty.Calibration | None:
-    """Probe and tape readings lying on the element (first of each), for its Monte Carlo."""
-    def on_element(xy):
-        rc = calibration.spot_pixel(xy, mask.shape)
-        return rc if rc is not None and mask[rc] else None
+def _camera(camera: Camera, side: str) -> readings.Camera:
+    """The Monte Carlo's camera: one offset shared by every view seen from the same side
+    (interior views in heated rooms, exterior views in the cold), unless calibrated."""
+    known = camera.offset_k is not None
+    return readings.Camera(
+        id=f"{camera.label or 'camera'}:{side}", accuracy_k=camera.accuracy_k,
+        relative_k=camera.relative_accuracy_k, noise_k=camera.noise_k, band_um=camera.band_um,
+        offset_k=camera.offset_k if known else 0.0,
+        offset_std_k=camera.offset_uncertainty_k if known else None)
 
-    kw = {}
-    for p in tg.probes:
-        rc = on_element(p.pixel_xy)
-        if rc is not None:
-            kw.update(probe_surface_c=p.surface_c, u_probe_k=p.uncertainty_k,
-                      probe_apparent_c=calibration.spot_mean(apparent_c, *rc))
-            break
-    for t in tg.tapes:
-        rc, rs = on_element(t.pixel_xy), on_element(t.surface_pixel_xy)
-        if rc is not None and rs is not None:
-            kw.update(tape_apparent_c=calibration.spot_mean(apparent_c, *rc),
-                      tape_emissivity=t.emissivity,
-                      surface_next_to_tape_apparent_c=calibration.spot_mean(apparent_c, *rs))
-            break
-    return uncertainty.Calibration(**kw) if kw else None
+
+def _flux_spot(tg, raw_c, eps_map):
+    hfm = getattr(tg, "heat_flux_meter", None)
+    if hfm is None:
+        return None, ""
+    rc = calibration.spot_pixel(hfm.pixel_xy, raw_c.shape)
+    apparent = calibration.spot_mean(raw_c, *rc) if rc is not None else None
+    return calibration.FluxSpot(hfm.q_w_m2, hfm.q_std_w_m2, apparent_c=apparent,
+                                surface_c=getattr(hfm, "surface_c", None),
+                                emissivity=float(eps_map[rc]) if rc is not None else None), rc
+
+
+def view_inputs(cv: CorrectedView, conditions: Conditions, camera: Camera,
+                analysis: Analysis) -> readings.ViewInputs:
+    """What the view's readings share, for the Monte Carlo (raw readings: the Monte Carlo
+    finds the camera offset itself, from the same probes the image path used)."""
+    c, tg = conditions, cv.thermogram
+    raw = cv.apparent_c + np.float32(cv.offset.value_k)
+    flux, flux_rc = _flux_spot(tg, raw, cv.emissivity)
+    flux_element = ""
+    if flux is not None and flux_rc is not None:
+        flux_element = next((n for n, r in cv.regions.items() if r.mask[flux_rc]), "")
+    tape_element, tape = next(((n, spot) for n, (spot, res) in cv.tapes.items()
+                               if res.accepted), ("", None))
+    mrt = getattr(tg, "mrt_c", None)
+    return readings.ViewInputs(
+        view_id=tg.id, t_ai_c=c.indoor_air_c, t_ae_c=c.outdoor_air_c,
+        reflected_c=cv.reflected_declared_c, camera=_camera(camera, cv.side), side=cv.side,
+        t_ai_std_k=c.air_uncertainty_k, t_ae_std_k=c.air_uncertainty_k,
+        reflected_std_k=tg.reflected_uncertainty_k, reflected_by_camera=tg.reflected_by_camera,
+        mrt_c=mrt, mrt_std_k=getattr(tg, "mrt_std_k", None) or 0.0,
+        transmittance=cv.transmittance, atmosphere_c=cv.atmosphere_c, probes=cv.probes,
+        tape=tape, tape_element=tape_element, flux=flux, flux_element=flux_element,
+        wind_m_s=c.wind_m_s, wind_std_m_s=c.wind_uncertainty_m_s,
+        exterior_convection=(analysis.exterior_convection,))
 
 
 def _whole_u(q_w_m2, area_map, mask, dt: float) -> float:
@@ -156,15 +214,17 @@ def _whole_u(q_w_m2, area_map, mask, dt: float) -> float:
     return float(np.sum(q_w_m2[valid] * area_map[valid]) / (np.sum(area_map[valid]) * dt))
 
 
-def element_result(cv: CorrectedView, flux: SurfaceFlux, element: Element, undisturbed,
-                   whole_mask, zone_name: str, conditions: Conditions, camera: Camera,
-                   analysis: Analysis, survey_checks, survey_file: str = "survey.toml",
-                   notes: tuple[str, ...] = ()) -> ElementResult:
-    """U with its Monte Carlo interval over the undisturbed area, and U over the whole area.
+def element_result(cv: CorrectedView, flux: SurfaceFlux, vin: readings.ViewInputs,
+                   element: Element, undisturbed, whole_mask, zone_name: str,
+                   conditions: Conditions, analysis: Analysis, survey_checks,
+                   survey_file: str = "survey.toml", notes: tuple[str, ...] = ()):
+    """U with its Monte Carlo interval over the undisturbed area, and over the whole area.
 
     Parameters
     ----------
     cv, flux : CorrectedView, SurfaceFlux
+    vin : readings.ViewInputs
+        What the view's readings share (`view_inputs`).
     element : Element
     undisturbed : ndarray of bool
         The element's undisturbed pixels (`envelope.zones.undisturbed_mask`).
@@ -172,10 +232,15 @@ def element_result(cv: CorrectedView, flux: SurfaceFlux, element: Element, undis
         The pixels the whole-area U is taken over (net area, warm spots left out).
     zone_name : str
         What `undisturbed` is, in words.
-    conditions, camera, analysis
+    conditions, analysis
         Survey inputs used.
     survey_checks : sequence of Check
         Checks of the night; the view's and the element's own are added.
+
+    Returns
+    -------
+    (ElementResult, ndarray)
+        The result and the per-trial U draws of the undisturbed area (for H).
     """
     c, tg, reg = conditions, cv.thermogram, cv.regions[element.name]
     obj = cv.object_c
@@ -185,47 +250,37 @@ def element_result(cv: CorrectedView, flux: SurfaceFlux, element: Element, undis
         raise SurveyError(f"element '{element.name}' has no valid undisturbed pixel",
                           survey_file, where)
     dt = c.indoor_air_c - c.outdoor_air_c
-    eps = float(cv.emissivity[reg.mask][0])
     checks = list(survey_checks) + list(cv.checks)
-    t_sky, f_sky = flux.sky.get(element.name, (None, None))
     if cv.side == "exterior":
-        checks.append(validity.check_night_sky(float(np.mean(obj[zone])), c.outdoor_air_c,
-                                               "exterior"))
-    cal = _reference_spots(tg, cv.apparent_c, reg.mask)
-    offset = cv.offset
-    accuracy = camera.accuracy_k
-    if offset.std_k is not None and not (cal is not None and cal.has_probe):
-        # the offset is removed from the image: what is left of the camera's absolute error is
-        # the reference's uncertainty (as a rectangular half-width of equal variance)
-        accuracy = offset.std_k * math.sqrt(3.0)
-    def estimate(pixels):
-        apparent = float(np.average(cv.apparent_c[pixels], weights=cv.area_map_m2[pixels]))
-        inputs = uncertainty.UInputs(
-            apparent_c=apparent, emissivity=eps,
-            u_emissivity=tg.emissivity_uncertainty, reflected_c=tg.reflected_c,
-            u_reflected_k=tg.reflected_uncertainty_k, t_ai_c=c.indoor_air_c,
-            u_t_ai_k=c.air_uncertainty_k, t_ae_c=c.outdoor_air_c, u_t_ae_k=c.air_uncertainty_k,
-            camera_accuracy_k=accuracy, camera_relative_k=camera.relative_accuracy_k,
-            transmittance=cv.transmittance, side=cv.side,
-            h_c_model=flux.h_c_model[element.name], direction=element.heat_flow,
-            wind_m_s=c.wind_m_s, u_wind=c.wind_uncertainty_m_s, height_m=element.height_m,
-            t_sky_c=t_sky, f_sky=f_sky if f_sky is not None else 0.5, calibration=cal)
+        checks.append(check_night_sky(float(np.mean(obj[zone])), c.outdoor_air_c, "exterior"))
+        t_sky, f_sky = flux.sky[element.name]
+        vin = replace(vin, t_sky_c=t_sky, f_sky=f_sky)
+    raw = cv.apparent_c + np.float32(cv.offset.value_k)
+    ens = ensemble_of(element, analysis) if cv.side == "interior" else 1.0
+    eps_prior = float(emissivity_of(element, tg)[0])  # before any tape: the MC applies it
+
+    def estimate(pixels, with_budget):
+        zin = readings.ZoneInputs(
+            element.name, float(np.average(raw[pixels], weights=cv.area_map_m2[pixels])),
+            eps_prior, tg.emissivity_uncertainty, int(pixels.sum()), ens)
         try:
-            return uncertainty.monte_carlo_u(inputs, n_draws=analysis.monte_carlo_draws,
-                                             seed=analysis.seed)
+            return uncertainty.estimate_u(vin, zin, n_draws=analysis.monte_carlo_draws,
+                                          seed=analysis.seed, budget=with_budget,
+                                          keep_draws=with_budget)
         except ValueError as exc:
             raise SurveyError(f"element '{element.name}': {exc}", survey_file, where) from None
 
-    est = estimate(zone)
+    est = estimate(zone, True)
     whole = whole_mask & np.isfinite(obj)
-    est_whole = estimate(whole) if whole.any() else None
-    u_valid, u_notes = True, list(notes)
+    est_whole = estimate(whole, False) if whole.any() else None
+    checks.append(est.surface_air)
+    u_valid, u_notes = True, list(notes) + list(est.notes)
     if any(ch.name == "night_sky" and ch.status == "fail" for ch in checks):
         u_valid = False
         u_notes.insert(0, "not a valid result: the exterior surface is colder than the outdoor "
                           "air (night-sky cooling), so the exterior balance cannot give U; use "
                           "an interior view")
-    elif est.u_w_m2k <= 0:
+    elif not est.u_w_m2k > 0:
         u_valid = False
         u_notes.insert(0, "not a valid result: the surface balance gives U ≤ 0 — the surface–"
                           "air difference is smaller than the temperature uncertainty; add a "
@@ -233,23 +288,35 @@ def element_result(cv: CorrectedView, flux: SurfaceFlux, element: Element, undis
     area = reg.area_m2 if element.area_m2 is None else element.area_m2
     net_px = float(np.sum(cv.area_map_m2[reg.mask]))
     share = float(np.sum(cv.area_map_m2[zone]) / net_px) if net_px > 0 else math.nan
-    cal_note = "; ".join(x for x in (offset.source, est.calibration_note if est.calibrated else "")
-                         if x) or est.calibration_note
-    return ElementResult(
+    advice = budget.narrowing_advice(est.budget, delta_t_k=dt)
+    cal_note = "; ".join(x for x in (cv.offset.source, cv.emissivity_source.get(element.name, "")
+                                     if element.name in cv.tapes else "") if x)
+    w = est_whole
+    res = ElementResult(
         name=element.name, kind=element.kind, thermogram=tg.id, side=cv.side,
         area_net_m2=area, area_source="survey (measured)" if element.area_m2 is not None
-        else f"outline ({tg.id})", emissivity=eps,
+        else f"outline ({tg.id})", emissivity=est.emissivity,
         emissivity_source=cv.emissivity_source.get(element.name, ""),
-        u_w_m2k=est.u_w_m2k, u_std_w_m2k=est.u_std, u_low95_w_m2k=est.low95,
-        u_high95_w_m2k=est.high95,
+        u_w_m2k=est.u_w_m2k, u_std_w_m2k=est.u_std_w_m2k, u_low95_w_m2k=est.u_low95_w_m2k,
+        u_high95_w_m2k=est.u_high95_w_m2k,
+        u_env_w_m2k=est.u_env_w_m2k, u_env_low95_w_m2k=est.u_env_low95_w_m2k,
+        u_env_high95_w_m2k=est.u_env_high95_w_m2k,
         u_whole_w_m2k=_whole_u(flux.q_w_m2, cv.area_map_m2, whole_mask, dt),
-        u_whole_std_w_m2k=None if est_whole is None else est_whole.u_std,
-        u_whole_low95_w_m2k=None if est_whole is None else est_whole.low95,
-        u_whole_high95_w_m2k=None if est_whole is None else est_whole.high95,
+        u_whole_std_w_m2k=None if w is None else w.u_std_w_m2k,
+        u_whole_low95_w_m2k=None if w is None else w.u_low95_w_m2k,
+        u_whole_high95_w_m2k=None if w is None else w.u_high95_w_m2k,
+        u_whole_env_low95_w_m2k=None if w is None else w.u_env_low95_w_m2k,
+        u_whole_env_high95_w_m2k=None if w is None else w.u_env_high95_w_m2k,
         undisturbed_share=share, undisturbed_zone=zone_name,
         u_method=f"{cv.side} surface", h_c_model=flux.h_c_model[element.name],
-        h_c_w_m2k=flux.h_c_w_m2k[element.name],
-        calibrated=est.calibrated or offset.std_k is not None, calibration_note=cal_note,
-        budget=tuple((k, float(v)) for k, v in est.budget.items()), u_valid=u_valid,
-        u_note="; ".join(u_notes), u_specified_w_m2k=element.u_specified_w_m2k,
+        h_c_w_m2k=est.h_c_w_m2k, h_c_std_w_m2k=est.h_c_std_w_m2k,
+        calibrated=est.calibrated or bool(cv.tapes.get(element.name, (None, None))[1]
+                                          and cv.tapes[element.name][1].accepted),
+        calibration_note=cal_note or ("no reference spot: the camera's absolute accuracy "
+                                      f"(±{vin.camera.accuracy_k:g} K) applies"),
+        budget=tuple((k, float(v)) for k, v in est.budget.items()),
+        narrowing=tuple((a.contributor, a.share, a.remedy) for a in advice),
+        u_valid=u_valid, u_note="; ".join(u_notes), u_specified_w_m2k=element.u_specified_w_m2k,
+        u_specified_basis=getattr(element, "u_specified_basis", "environmental"),
         checks=tuple(checks))
+    return res, est.draws

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 
-from envelope import energy, retrofit, verdicts
+from envelope import budget, energy, retrofit, uncertainty, verdicts
 from envelope.errors import SurveyError
 from envelope.stages.data import ElementResult, EnergyCase, HeatBalance
 from envelope.survey import Analysis, Climate, Conditions, Prices
@@ -18,22 +18,32 @@ DEFECT_MEASURE_CLASSES = {"seal_leak": ("air leakage",),
 """Defect classes a defect measure acts on when the survey names none."""
 
 
+BASIS_WORDS = {"environmental": "environmental temperatures (the ISO 6946 definition)",
+               "air": "air temperatures"}
+
+
 def with_verdicts(elements, survey_checks, analysis: Analysis) -> tuple[ElementResult, ...]:
     """Element results with the builder's verdict on those that have a specified U.
 
     The verdict judges the element as built: its whole net area, defects included (a wall
-    with a missing batt must not pass on its good parts), with that area's own interval.
+    with a missing batt must not pass on its good parts), with that area's own interval, by
+    the definition of the specified value: environmental temperatures for design U-values
+    (ISO 6946), air temperatures when the survey says the specification is air-to-air.
     """
     night_ok = all(ch.status != "fail" for ch in survey_checks)
     out = []
     for e in elements:
         if e.u_specified_w_m2k is not None:
             ok = night_ok and e.u_valid and all(ch.status != "fail" for ch in e.checks)
+            env = e.u_specified_basis == "environmental"
+            lo = e.u_whole_env_low95_w_m2k if env else e.u_whole_low95_w_m2k
+            hi = e.u_whole_env_high95_w_m2k if env else e.u_whole_high95_w_m2k
             verdict, reason = verdicts.builder_verdict(
-                e.u_whole_low95_w_m2k, e.u_whole_high95_w_m2k, e.u_specified_w_m2k,
-                analysis.verdict_tolerance_w_m2k, checks_ok=ok)
+                lo, hi, e.u_specified_w_m2k, analysis.verdict_tolerance_w_m2k, checks_ok=ok)
+            basis = (f"whole net area as built (defects included), U referred to "
+                     f"{BASIS_WORDS.get(e.u_specified_basis, e.u_specified_basis)}")
             e = dataclasses.replace(e, verdict=verdict, verdict_reason=reason,
-                                    verdict_basis="whole net area as built (defects included)")
+                                    verdict_basis=basis)
         out.append(e)
     return tuple(out)
 
@@ -88,8 +98,31 @@ def target_measures(measures, defects, usable: set[str], notes: list) -> list:
     return out
 
 
+def joint_heat_loss(best, draws: dict, d_loss, seed: int):
+    """H's uncertainty from the joint Monte Carlo: every element's per-trial U (same seed and
+    number of trials: shared inputs line up trial by trial) summed with the defects'.
+
+    Returns `budget.HeatLossResult`, or None when a used element has no draws."""
+    terms = []
+    for r in best:
+        d = draws.get((r.thermogram, r.name))
+        if d is None:
+            return None
+        terms.append((r.area_net_m2, d))
+    if not terms:
+        return None
+    n = terms[0][1].size
+    bridges = [(1.0, d.h_w_k + d.h_std_w_k * uncertainty.keyed_normal(f"defect:{d.id}", seed, n))
+               for d in d_loss]
+    try:
+        return budget.heat_loss_from_draws(terms, bridges)
+    except ValueError:
+        return None
+
+
 def energy_case(elements, defects, measures, conditions: Conditions, climate: Climate,
-                prices: Prices, notes: list, survey_file: str = "survey.toml") -> EnergyCase:
+                prices: Prices, notes: list, survey_file: str = "survey.toml", draws=None,
+                seed: int = 0) -> EnergyCase:
     """H, the heat flow at survey and design conditions, annual loss, and the retrofit case.
 
     Parameters
@@ -115,6 +148,8 @@ def energy_case(elements, defects, measures, conditions: Conditions, climate: Cl
                for r in usable]
     d_loss = defect_losses(defects, dt)
     hl = energy.heat_loss_coefficient(el_loss, d_loss)
+    joint = joint_heat_loss(usable, draws or {}, d_loss, seed)
+    h_std = joint.h_std_w_k if joint is not None else hl.h_std_w_k
     hdd = cl.heating_degree_days_kd
     q_design = None
     if cl.design_indoor_c is not None and cl.design_outdoor_c is not None:
@@ -122,13 +157,15 @@ def energy_case(elements, defects, measures, conditions: Conditions, climate: Cl
     annual = annual_std = None
     if hdd is not None:
         annual = float(energy.annual_heat_loss_kwh(hl.h_w_k, hdd))
-        annual_std = float(energy.annual_heat_loss_kwh(hl.h_std_w_k, hdd))
+        annual_std = float(energy.annual_heat_loss_kwh(h_std, hdd))
     else:
         notes.append("no heating degree-days ([climate] heating_degree_days_kd): annual figures "
                      "left out")
-    balance = HeatBalance(hl, float(energy.heat_loss_w(hl.h_w_k, c.indoor_air_c, c.outdoor_air_c)),
-                          q_design, cl.design_indoor_c, cl.design_outdoor_c, hdd, annual,
-                          annual_std)
+    balance = HeatBalance(
+        hl, float(energy.heat_loss_w(hl.h_w_k, c.indoor_air_c, c.outdoor_air_c)), q_design,
+        cl.design_indoor_c, cl.design_outdoor_c, hdd, annual, annual_std, h_std,
+        None if joint is None else joint.h_low95_w_k, None if joint is None else joint.h_high95_w_k,
+        hl.h_std_w_k)
     if not measures:
         return EnergyCase(balance)
     if prices.energy_price_per_kwh is None or not hdd:

@@ -14,40 +14,28 @@ from dataclasses import replace
 import numpy as np
 from scipy import ndimage
 
+from envelope import budget, convection, zones
 from envelope import defects as defects_mod
-from envelope import zones
 from envelope.outlines import rasterise
 from envelope.stages.data import CorrectedView, SurfaceFlux, ViewResult
-from envelope.stages.elements import DesignConditions, element_result, frsi_map, surface_flux
+from envelope.stages.elements import (
+    DesignConditions,
+    element_result,
+    ensemble_of,
+    frsi_map,
+    surface_flux,
+    view_inputs,
+)
 from envelope.stages.risk import element_risk
 from envelope.survey import Analysis, Camera, Conditions, Element
 
-__all__ = ["H_C_BAND", "defect_relative_uncertainty", "view_defects", "assess_view"]
-
-H_C_BAND = 0.2
-"""Half-width of the rectangular model uncertainty of h_c (as in `uncertainty.UInputs`)."""
-
-
-def defect_relative_uncertainty(contrast_k: float, relative_accuracy_k: float,
-                                h_c_band: float = H_C_BAND) -> float:
-    """Relative standard uncertainty of a defect's extra heat flow [-].
-
-    The extra heat flow is measured against the undisturbed area of the same image, so the
-    camera's absolute error cancels; what is left is the film coefficient's model
-    uncertainty (±`h_c_band` rectangular: band/√3) and the camera's relative accuracy on the
-    temperature contrast, taken conservatively against the undisturbed area's surface–air
-    difference `contrast_k` (rectangular ±a, √2 for a difference of two readings).
-    """
-    u_t = math.sqrt(2.0) * relative_accuracy_k / math.sqrt(3.0)
-    u_h = h_c_band / math.sqrt(3.0)
-    return math.sqrt(u_h**2 + (u_t / max(abs(contrast_k), 0.5)) ** 2)
-
+__all__ = ["view_defects", "assess_view"]
 
 def _is_warm(d) -> bool:
     return d.defect_class == "unexplained" and defects_mod.WARM_NOTE in d.notes
 
 
-def view_defects(cv: CorrectedView, flux: SurfaceFlux, frsi, conditions: Conditions,
+def view_defects(cv: CorrectedView, flux: SurfaceFlux, frsi, elements, conditions: Conditions,
                  camera: Camera, analysis: Analysis, hdd_kd: float, limits, pair=None) -> list:
     """Defects of one view (interior: cold anomalies of fRsi; exterior: warm ones)."""
     c = conditions
@@ -58,8 +46,14 @@ def view_defects(cv: CorrectedView, flux: SurfaceFlux, frsi, conditions: Conditi
         zone = reg.reference_mask if reg.reference_mask is not None and reg.reference_mask.any() \
             else reg.mask
         m = zone & np.isfinite(cv.object_c)
-        contrast = abs(float(np.mean(cv.object_c[m])) - air) if m.any() else 0.0
-        u_rel[name] = defect_relative_uncertainty(contrast, camera.relative_accuracy_k)
+        t_zone = float(np.mean(cv.object_c[m])) if m.any() else air
+        h_rel = budget.H_C_REL_STD
+        if cv.side == "interior":
+            mean, std, _ = convection.ensemble_spread(ensemble_of(elements[name], analysis),
+                                                      t_zone, air)
+            h_rel = std / mean if mean > 0 else h_rel
+        u_rel[name] = budget.defect_relative_uncertainty(abs(t_zone - air),
+                                                         camera.relative_accuracy_k, h_rel)
     settings = defects_mod.DefectSettings(delta_f=analysis.defect_threshold,
                                           min_area_m2=analysis.defect_min_area_m2)
     lim = tuple(x.value if x is not None else None for x in limits)
@@ -113,8 +107,9 @@ def assess_view(cv: CorrectedView, elements: Mapping[str, Element], conditions: 
     dt = c.indoor_air_c - c.outdoor_air_c
     flux = surface_flux(cv, elements, c, analysis)
     frsi = frsi_map(cv, c)
-    found = view_defects(cv, flux, frsi, c, camera, analysis, hdd_kd, limits, pair)
-    results, kept = [], {}
+    found = view_defects(cv, flux, frsi, elements, c, camera, analysis, hdd_kd, limits, pair)
+    vin = view_inputs(cv, c, camera, analysis)
+    results, kept, draws = [], {}, {}
     for name, reg in cv.regions.items():
         on_el = [d for d in found if d.element == name]
         warm = [_defect_zone(d, reg.mask, cv.area_map_m2) for d in on_el if _is_warm(d)]
@@ -126,8 +121,9 @@ def assess_view(cv: CorrectedView, elements: Mapping[str, Element], conditions: 
         if warm:
             notes = (f"whole-area U leaves out {len(warm)} warm spot"
                      f"{'s' if len(warm) > 1 else ''} (likely reflection or heat source)",)
-        res = element_result(cv, flux, elements[name], undisturbed, whole, zone_name, c, camera,
-                             analysis, survey_checks, survey_file, notes)
+        res, draws[name] = element_result(cv, flux, vin, elements[name], undisturbed, whole,
+                                          zone_name, c, analysis, survey_checks, survey_file,
+                                          notes)
         if cv.side == "interior":
             vals = frsi[reg.mask & np.isfinite(frsi)]
             res = element_risk(res, vals, limits, design,
@@ -139,4 +135,4 @@ def assess_view(cv: CorrectedView, elements: Mapping[str, Element], conditions: 
     return ViewResult(cv.thermogram, "assessed", corrected=cv,
                       frsi=frsi if cv.side == "interior" else None, u_map_w_m2k=u_map,
                       elements=tuple(results), defects=tuple(found), checks=cv.checks,
-                      undisturbed=kept)
+                      undisturbed=kept, u_draws=draws)
