@@ -1,6 +1,9 @@
 """Shared look of every figure: colour maps, colour bars in °C, saving PNGs.
 
 Colour maps are matplotlib's perceptually uniform maps under their matplotlib names.
+Text from the survey (ids, element names) reaches titles, labels and legends: matplotlib's
+mathtext parser is switched off for every text of the figures (``text.parse_math``), so a
+``$...$`` in a name prints as typed and can never fail to parse.
 """
 
 from __future__ import annotations
@@ -10,6 +13,7 @@ from pathlib import Path
 import matplotlib
 
 matplotlib.use("Agg")
+matplotlib.rcParams["text.parse_math"] = False  # survey text is never parsed as math
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
@@ -74,7 +78,7 @@ def image_axes(image, *, cmap=TEMPERATURE_CMAP, label="Surface temperature [°C]
     ax.set_xlabel("x [px]")
     ax.set_ylabel("y [px]")
     if title:
-        ax.set_title(title)
+        ax.set_title(title, parse_math=False)
     return fig, ax
 
 
