@@ -405,7 +405,7 @@ class _Lock:
             self.fd = None
 
 
-def _clean_leftovers(out: Path) -> None:
+def _clean_leftovers(out: Path, notes: list) -> None:
     """Remove staging folders of earlier runs to `out` whose process is gone.
 
     Only folders named ``.NAME.partial-*`` holding a readable marker of this tool qualify;
@@ -425,11 +425,11 @@ def _clean_leftovers(out: Path) -> None:
         if kind.startswith("partial-"):
             owner = _read_owner(p / PARTIAL_MARKER)
             if owner is not None and not _alive(owner):
-                shutil.rmtree(p, ignore_errors=True)
+                _remove_partial(p)
         elif kind.startswith("old-"):
             pid = kind[len("old-"):]
             if pid.isdigit() and not _alive({"pid": int(pid), "host": socket.gethostname()}):
-                _discard_old(p, out, [])
+                _discard_old(p, out, notes)
 
 
 def _new_partial(out: Path) -> Path:
@@ -442,6 +442,24 @@ def _new_partial(out: Path) -> Path:
         (p / PARTIAL_MARKER).write_text(_owner_text(), encoding="utf-8")
         return p
     raise FileExistsError(errno.EEXIST, "no free staging name", str(out.parent))
+
+
+def _remove_partial(tmp: Path) -> None:
+    """Delete a staging folder, its marker last, so that a cut-short cleanup still leaves a
+    folder the next run recognises."""
+    with contextlib.suppress(OSError), os.scandir(tmp) as it:
+        for e in list(it):
+            if e.name == PARTIAL_MARKER:
+                continue
+            if e.is_dir(follow_symlinks=False):
+                shutil.rmtree(e.path, ignore_errors=True)
+            else:
+                with contextlib.suppress(OSError):
+                    os.unlink(e.path)
+    with contextlib.suppress(OSError):
+        os.unlink(tmp / PARTIAL_MARKER)
+    with contextlib.suppress(OSError):
+        os.rmdir(tmp)
 
 
 def _visible_name(out: Path, what: str) -> Path:
@@ -595,7 +613,7 @@ def staged_folder(out_dir: str | Path, replace: bool = False, inputs=(), command
     try:
         created = _make_parents(out.parent)
         with _Lock(out, given):
-            _clean_leftovers(out)
+            _clean_leftovers(out, notes)
             _target_state(out, given, replace)
             tmp = _new_partial(out)
             try:
@@ -604,7 +622,7 @@ def staged_folder(out_dir: str | Path, replace: bool = False, inputs=(), command
                 _commit(tmp, out, given, replace, hold, notes)
             finally:
                 if os.path.lexists(tmp):
-                    shutil.rmtree(tmp, ignore_errors=True)
+                    _remove_partial(tmp)
             done = True
     except OSError as exc:
         raise _fault(exc, out, given, tmp) from None
@@ -670,7 +688,7 @@ def refreshed_folder(out_dir: str | Path, hold=None, command: str = "rerender",
     tmp = None
     try:
         with _Lock(out, given):
-            _clean_leftovers(out)
+            _clean_leftovers(out, [])
             manifest = read_manifest(out)
             if manifest is None:
                 raise SurveyError(f"no valid {MANIFEST}", str(given), MANIFEST)
@@ -682,7 +700,7 @@ def refreshed_folder(out_dir: str | Path, hold=None, command: str = "rerender",
                 _commit_changed(tmp, out, given, manifest, command, hold)
             finally:
                 if os.path.lexists(tmp):
-                    shutil.rmtree(tmp, ignore_errors=True)
+                    _remove_partial(tmp)
     except OSError as exc:
         raise _fault(exc, out, given, tmp) from None
 

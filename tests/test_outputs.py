@@ -298,6 +298,18 @@ def test_leftovers_of_a_killed_run_are_cleaned(survey_dir, tmp_path):
     assert names(tmp_path) == sorted(["out", "survey", live.name, foreign.name])
 
 
+def test_old_output_of_a_run_killed_mid_swap_loses_only_our_files(assessed, survey_dir,
+                                                                   tmp_path):
+    old = copy_output(assessed[1], tmp_path / f".out.old-{_dead_pid()}")
+    (old / "notes.txt").write_text("mine\n")
+    res = cli("correct", survey_dir, "--out", tmp_path / "out", "--quiet")
+    assert res.exit_code == 0, res.output
+    kept = f"out.old-{os.getpid()}"
+    assert names(tmp_path) == sorted(["out", "survey", kept])
+    assert names(tmp_path / kept) == ["notes.txt"]
+    assert kept in res.output
+
+
 # --------------------------------------------------------------------------------------
 # signals
 # --------------------------------------------------------------------------------------
