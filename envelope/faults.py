@@ -98,7 +98,7 @@ _WHAT_TO_DO = {
     errno.EISDIR: "this is a folder where a file was expected; move it away or choose another path",
     errno.ENAMETOOLONG: "path or file name too long for the file system; choose a shorter path",
     errno.ELOOP: "too many levels of symbolic links; check the links in this path",
-    errno.ENOENT: "does not exist (was it moved or removed during the run?); check the path",
+    errno.ENOENT: "{not_found}",
     errno.EEXIST: "already exists; choose another path",
     errno.ENOTEMPTY: "folder is not empty; choose another path",
     errno.EXDEV: "cannot be moved across file systems; choose an --out on the same disk",
@@ -120,8 +120,9 @@ def os_error_message(exc: OSError, action: str = "write") -> str:
     ----------
     exc : OSError
         The fault.
-    action : {"write", "read"}
-        Whether the path was being written (outputs) or read (inputs).
+    action : {"write", "read", "rewrite"}
+        Whether the path was being written (a new output folder), read (inputs) or
+        rewritten (files of an existing output folder).
 
     Returns
     -------
@@ -131,16 +132,25 @@ def os_error_message(exc: OSError, action: str = "write") -> str:
     if action == "read":
         words = {"fix_access": "make it readable or copy it somewhere you can read",
                  "fix_disk": "copy the survey to a writable disk",
-                 "fix_disk_plain": "copy the survey to another disk"}
+                 "fix_disk_plain": "copy the survey to another disk",
+                 "not_found": "does not exist (was it moved or removed?); check the path"}
+    elif action == "rewrite":  # files of an existing output folder (rerender)
+        words = {"fix_access": "get write access to the output folder and its parent",
+                 "fix_disk": "copy the output folder to a writable disk",
+                 "fix_disk_plain": "move the output folder to another disk",
+                 "not_found": "was removed during the run; check the path"}
     else:
         words = {"fix_access": "choose an --out in a folder you can write to, or get write access",
                  "fix_disk": "choose an --out on a writable disk",
-                 "fix_disk_plain": "choose an --out on another disk"}
+                 "fix_disk_plain": "choose an --out on another disk",
+                 "not_found": "cannot be created here (a folder on the way is missing or was "
+                              "removed during the run); choose another --out"}
     template = _WHAT_TO_DO.get(exc.errno)
     if template is not None:
         return template.format(**words)
     reason = terminal_text(exc.strerror or type(exc).__name__, 80)
-    return f"cannot {action} ({reason}); check the path and the disk"
+    verb = "write" if action == "rewrite" else action
+    return f"cannot {verb} ({reason}); check the path and the disk"
 
 
 def os_error_to_survey_error(exc: OSError, action: str = "write", path=None,
@@ -151,7 +161,7 @@ def os_error_to_survey_error(exc: OSError, action: str = "write", path=None,
     ----------
     exc : OSError
         The fault.
-    action : {"write", "read"}
+    action : {"write", "read", "rewrite"}
         See `os_error_message`.
     path : path-like, optional
         Path to name when the fault carries none (a write that found the disk full).

@@ -351,9 +351,10 @@ def _alive(owner: dict) -> bool:
 class _Lock:
     """``.NAME.lock`` beside the output folder, held for the whole run."""
 
-    def __init__(self, out: Path, given):
+    def __init__(self, out: Path, given, field: str | None = "--out"):
         self.path = out.parent / f".{out.name}.lock"
         self.given = given
+        self.field = field
         self.fd = None
 
     def _refuse(self, owner):
@@ -361,7 +362,7 @@ class _Lock:
         raise SurveyError(
             f"another envelope run ({who}) is writing this output folder (lock {self.path}); "
             "wait for it to finish, or remove the lock if no such run exists",
-            str(self.given), "--out")
+            str(self.given), self.field)
 
     def __enter__(self):
         for _ in range(20):
@@ -384,6 +385,9 @@ class _Lock:
                     owner = _read_owner(self.path)
                     if owner is not None and _alive(owner):
                         self._refuse(owner)
+                if os.fstat(fd).st_size and _read_owner(self.path) is None:
+                    raise SurveyError(f"{self.path.name} beside it was not written by envelope; "
+                                      "move it away and run again", str(self.path), self.field)
                 os.ftruncate(fd, 0)
                 os.write(fd, _owner_text().encode("utf-8"))
             except BaseException:
@@ -548,8 +552,10 @@ def _target_state(out: Path, given, replace: bool) -> str:
     return "ours"
 
 
-def _fault(exc: OSError, out: Path, given, tmp: Path | None) -> SurveyError:
+def _fault(exc: OSError, out: Path, given, tmp: Path | None,
+           field: str | None = "--out") -> SurveyError:
     """Name the path of a fault by what the user knows: staging paths become ``--out``."""
+    action = "write" if field else "rewrite"
     name = exc.filename if isinstance(exc.filename, str) else None
     hidden = str(out.parent / f".{out.name}.")
     if name is None or name.startswith(hidden):
@@ -560,10 +566,10 @@ def _fault(exc: OSError, out: Path, given, tmp: Path | None) -> SurveyError:
             name = None
         if rename is None and name is None:
             exc = OSError(exc.errno, exc.strerror)
-        return os_error_to_survey_error(exc, "write", given, "--out", rename)
+        return os_error_to_survey_error(exc, action, given, field, rename)
     inside_out = name.startswith(str(out) + os.sep) or name == str(out)
     if inside_out or not os.path.exists(name) or tmp is None:
-        return os_error_to_survey_error(exc, "write", None, "--out")
+        return os_error_to_survey_error(exc, action, None, field)
     return os_error_to_survey_error(exc, "read")  # an input read while writing
 
 
@@ -687,7 +693,7 @@ def refreshed_folder(out_dir: str | Path, hold=None, command: str = "rerender",
                           "of envelope; run `envelope assess` again", str(given), MANIFEST)
     tmp = None
     try:
-        with _Lock(out, given):
+        with _Lock(out, given, None):
             _clean_leftovers(out, [])
             manifest = read_manifest(out)
             if manifest is None:
@@ -702,7 +708,7 @@ def refreshed_folder(out_dir: str | Path, hold=None, command: str = "rerender",
                 if os.path.lexists(tmp):
                     _remove_partial(tmp)
     except OSError as exc:
-        raise _fault(exc, out, given, tmp) from None
+        raise _fault(exc, out, given, tmp, None) from None
 
 
 def _check_replaceable(out: Path, given, manifest: dict, rel: str) -> Path:

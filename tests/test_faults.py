@@ -56,6 +56,35 @@ def _refused(res, tmp_path, inputs_before, survey_dir, *expected) -> str:
     return line
 
 
+@pytest.mark.parametrize("command", ["assess", "correct", "rerender"])
+@pytest.mark.parametrize("call, err, words", [
+    ("mkdir", errno.EACCES, "permission denied; "),
+    ("open", errno.EROFS, "read-only file system; "),
+    ("open", errno.ENOSPC, "disk full; free some space"),
+    ("mkdir", errno.EDQUOT, "disk quota exceeded; free some space"),
+])
+def test_fault_at_the_start_is_one_line(assessed, survey_dir, tmp_path, monkeypatch, command,
+                                        call, err, words):
+    """The staging folder (mkdir) or the lock (open) beside the output cannot be written."""
+    out = tmp_path / "out"
+    if command == "rerender":
+        import shutil
+
+        shutil.copytree(assessed, out)
+        args, field = ("rerender", out, "--quiet"), ""
+    else:
+        extra = DRAWS if command == "assess" else ()
+        args, field = (command, survey_dir, "--out", out, "--quiet", *extra), "--out: "
+    watched = out if command == "rerender" else survey_dir
+    before = digest(watched)
+    _fail_paths(monkeypatch, os, call, err, str(tmp_path / ".out."))
+    res = cli(*args)
+    assert res.exit_code == 2, res.output
+    assert f"{out}: {field}{words}" in error_line(res)
+    assert digest(watched) == before
+    assert names(tmp_path) == (["out", "survey"] if command == "rerender" else ["survey"])
+
+
 def test_disk_full_while_writing_figures(survey_dir, tmp_path, monkeypatch):
     def savefig(self, *args, **kwargs):
         raise OSError(errno.ENOSPC, "No space left on device")  # a failed write(): no file name
@@ -145,6 +174,15 @@ def test_unreadable_survey_file(survey_dir, tmp_path, monkeypatch):
     _refused(res, tmp_path, inputs, survey_dir, "survey.toml", "permission denied")
 
 
+def test_survey_file_that_is_a_folder(tmp_path):
+    root = write_survey(tmp_path / "survey")
+    (root / "survey.toml").unlink()
+    (root / "survey.toml").mkdir()
+    inputs = digest(root)
+    res = cli("assess", root, "--out", tmp_path / "out", "--quiet", *DRAWS)
+    _refused(res, tmp_path, inputs, root, "survey.toml")
+
+
 def test_unexpected_failure_is_one_line(survey_dir, tmp_path, monkeypatch):
     def broken(*args, **kwargs):
         raise TypeError("a bug")
@@ -176,7 +214,7 @@ def test_rerender_disk_full_keeps_the_old_reports(assessed, tmp_path, monkeypatc
     monkeypatch.setattr(Path, "write_text", write_text)
     res = cli("rerender", out, "--quiet")
     assert res.exit_code == 2, res.output
-    assert f"{out}: --out: disk full" in error_line(res)
+    assert f"{out}: disk full; free some space or move the output folder" in error_line(res)
     assert digest(out) == before
     assert names(tmp_path) == ["out"]
 

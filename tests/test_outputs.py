@@ -281,6 +281,16 @@ def test_stale_lock_is_taken_over(survey_dir, tmp_path):
     assert names(tmp_path) == ["out", "survey"]
 
 
+def test_a_user_file_named_like_the_lock_is_never_overwritten(survey_dir, tmp_path):
+    (tmp_path / ".out.lock").write_text("my own file\n")
+    before = digest(tmp_path)
+    res = cli("correct", survey_dir, "--out", tmp_path / "out", "--quiet")
+    assert res.exit_code == 2, res.output
+    assert f"{tmp_path / '.out.lock'}: --out: .out.lock beside it was not written by envelope" \
+        in error_line(res)
+    assert digest(tmp_path) == before
+
+
 def test_leftovers_of_a_killed_run_are_cleaned(survey_dir, tmp_path):
     host = socket.gethostname()
     dead = tmp_path / ".out.partial-1-dead"
@@ -329,14 +339,13 @@ def test_signal_cleans_up_like_sigint(survey_dir, tmp_path, monkeypatch, signum,
     assert {s: signal.getsignal(s) for s in before} == before  # handlers restored
 
 
-def test_sigterm_leaves_nothing(tmp_path):
-    """A real process stopped by SIGTERM while it computes: exit 143, no folder, no lock."""
+def _slow_run(tmp_path):
+    """A real `assess` process of two views at the largest allowed draws, once it is staging."""
     head = SURVEY_TOML[: SURVEY_TOML.index("[[thermograms]]")]
     block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
     root = write_survey(tmp_path / "s", head + block.replace('id = "room-north"', 'id = "a"')
                         + block.replace('id = "room-north"', 'id = "b"'))
     np.save(root / "thermograms" / "room-north.npy", readings(seed=3))
-    inputs = digest(root)
     proc = subprocess.Popen([sys.executable, "-m", "envelope.cli", "assess", str(root), "--out",
                              str(tmp_path / "out"), "--quiet", "--draws", "1000000"],
                             env=dict(os.environ, MPLBACKEND="Agg"),
@@ -345,12 +354,32 @@ def test_sigterm_leaves_nothing(tmp_path):
     while time.time() < deadline and not any(n.startswith(".out.partial") for n in names(tmp_path)):
         time.sleep(0.05)
     time.sleep(0.3)
+    return root, proc
+
+
+def test_sigterm_leaves_nothing(tmp_path):
+    """A real process stopped by SIGTERM while it computes: exit 143, no folder, no lock."""
+    root, proc = _slow_run(tmp_path)
+    inputs = digest(root)
     proc.send_signal(signal.SIGTERM)
     _, err = proc.communicate(timeout=120)
     assert proc.returncode == 143, err.decode()
     assert "envelope: interrupted (SIGTERM); no output folder written" in err.decode()
     assert "Traceback" not in err.decode()
     assert names(tmp_path) == ["s"]
+    assert digest(root) == inputs
+
+
+def test_kill_9_leftovers_are_cleaned_by_the_next_run(tmp_path):
+    root, proc = _slow_run(tmp_path)
+    inputs = digest(root)
+    proc.kill()  # SIGKILL: no cleanup possible
+    proc.communicate(timeout=60)
+    left = names(tmp_path)
+    assert ".out.lock" in left and any(n.startswith(".out.partial-") for n in left), left
+    res = cli("correct", root, "--out", tmp_path / "out", "--quiet")
+    assert res.exit_code == 0, res.output
+    assert names(tmp_path) == ["out", "s"]
     assert digest(root) == inputs
 
 
