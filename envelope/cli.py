@@ -19,7 +19,7 @@ import typer
 
 from .errors import EnvelopeWarning, SurveyError
 from .faults import MAX_MESSAGE_CHARS, os_error_to_survey_error, terminal_json, terminal_text
-from .folders import Interrupted, Interrupts
+from .interrupts import Interrupted, Interrupts
 
 EXIT_USER_ERROR = 2
 EXIT_PARTIAL = 3

@@ -27,18 +27,28 @@ from __future__ import annotations
 
 import contextlib
 import errno
-import hashlib
 import json
 import os
 import secrets
 import shutil
-import signal
 import socket
-import threading
 from pathlib import Path, PurePosixPath
 
 from .errors import SurveyError
 from .faults import os_error_to_survey_error
+from .interrupts import Interrupted, Interrupts, no_hold
+from .manifest import (
+    MANIFEST,
+    MANIFEST_FORMAT,
+    MANIFEST_VERSION,
+    PARTIAL_MARKER,
+    plain_inside,
+    read_manifest,
+    safe_rel,
+    sha256,
+    strangers,
+    write_manifest,
+)
 
 try:  # POSIX advisory locks; elsewhere the process id alone tells a live lock
     import fcntl
@@ -47,8 +57,6 @@ except ImportError:  # pragma: no cover - not POSIX
 
 __all__ = [
     "MANIFEST",
-    "MANIFEST_FORMAT",
-    "PARTIAL_MARKER",
     "Interrupted",
     "Interrupts",
     "check_apart",
@@ -56,94 +64,6 @@ __all__ = [
     "refreshed_folder",
     "staged_folder",
 ]
-
-MANIFEST = "manifest.json"
-"""File listing every file an output folder holds, with its SHA-256 (written last)."""
-MANIFEST_FORMAT = "envelope-output"
-MANIFEST_VERSION = 1
-PARTIAL_MARKER = ".envelope-partial"
-"""Marker inside a staging folder: JSON with the writing process id and host."""
-MAX_MANIFEST_BYTES = 16 * 1024 * 1024
-_SIGNALS = tuple(getattr(signal, n) for n in ("SIGINT", "SIGTERM", "SIGHUP") if hasattr(signal, n))
-
-
-# --------------------------------------------------------------------------------------
-# signals
-# --------------------------------------------------------------------------------------
-
-
-class Interrupted(KeyboardInterrupt):
-    """A run stopped by SIGINT, SIGTERM or SIGHUP.
-
-    ``committed`` is the output folder when the signal arrived while the finished outputs
-    were being moved into place (the move was completed first), else None.
-    """
-
-    def __init__(self, signum: int, committed=None):
-        super().__init__(signum)
-        self.signum = int(signum)
-        self.committed = committed
-
-    @property
-    def exit_code(self) -> int:
-        """128 + the signal number, as shells report a process ended by a signal."""
-        return 128 + self.signum
-
-    @property
-    def signal_name(self) -> str:
-        try:
-            return signal.Signals(self.signum).name
-        except ValueError:
-            return f"signal {self.signum}"
-
-
-class Interrupts:
-    """While `installed`, SIGINT, SIGTERM and SIGHUP raise `Interrupted`; `hold` defers them.
-
-    Used by the command line so that every way of stopping a run cleans up like Ctrl-C.
-    Handlers are installed only in the main thread and the previous ones are restored.
-    """
-
-    def __init__(self):
-        self._held = 0
-        self._pending: int | None = None
-
-    def _handler(self, signum, frame):
-        if self._held:
-            if self._pending is None:
-                self._pending = signum
-            return
-        raise Interrupted(signum)
-
-    @contextlib.contextmanager
-    def installed(self):
-        if threading.current_thread() is not threading.main_thread():
-            yield self
-            return
-        old = {s: signal.signal(s, self._handler) for s in _SIGNALS}
-        try:
-            yield self
-        finally:
-            for s, h in old.items():
-                signal.signal(s, h)
-
-    @contextlib.contextmanager
-    def hold(self, committed=None):
-        """Defer signals over a block that must not be cut (the final renames); a signal
-        that arrived meanwhile is raised after it, as `Interrupted` with `committed`."""
-        self._held += 1
-        try:
-            yield
-        finally:
-            self._held -= 1
-        if not self._held and self._pending is not None:
-            signum, self._pending = self._pending, None
-            raise Interrupted(signum, committed=committed)
-
-
-def _no_hold(committed=None):
-    return contextlib.nullcontext()
-
 
 # --------------------------------------------------------------------------------------
 # paths
@@ -209,105 +129,6 @@ def check_apart(out: Path, inputs, given=None) -> None:
                 f"the output folder {how} the input folder {inp}; inputs are never written to: "
                 "choose an --out outside the survey folder (with or without --replace)",
                 str(given), "--out")
-
-
-def _safe_rel(rel) -> PurePosixPath | None:
-    """A manifest path: relative, POSIX, no ``..``, not empty; else None."""
-    if not isinstance(rel, str) or not rel or "\\" in rel or "\x00" in rel:
-        return None
-    p = PurePosixPath(rel)
-    if p.is_absolute() or any(part in ("", ".", "..") for part in p.parts):
-        return None
-    return p
-
-
-def _plain_inside(root: Path, rel: PurePosixPath) -> Path | None:
-    """``root/rel`` when no component of it is a symbolic link, else None."""
-    cur = root
-    for part in rel.parts:
-        cur = cur / part
-        if os.path.islink(cur):
-            return None
-    return cur
-
-
-def _sha256(path: Path) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        for block in iter(lambda: f.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
-
-
-# --------------------------------------------------------------------------------------
-# manifest
-# --------------------------------------------------------------------------------------
-
-
-def _write_manifest(folder: Path, command: str) -> None:
-    files, folders = {}, []
-    for dirpath, dirnames, filenames in os.walk(folder):
-        base = Path(dirpath)
-        for d in dirnames:
-            folders.append((base / d).relative_to(folder).as_posix())
-        for f in filenames:
-            rel = (base / f).relative_to(folder).as_posix()
-            if rel in (PARTIAL_MARKER, MANIFEST):
-                continue
-            files[rel] = _sha256(base / f)
-    doc = {"format": MANIFEST_FORMAT, "version": MANIFEST_VERSION, "command": command,
-           "files": dict(sorted(files.items())), "folders": sorted(folders)}
-    (folder / MANIFEST).write_text(json.dumps(doc, indent=1, sort_keys=True) + "\n",
-                                   encoding="utf-8")
-
-
-def read_manifest(folder: str | Path) -> dict | None:
-    """The manifest of an output folder this tool wrote, or None (absent, foreign, broken).
-
-    Only entries with safe relative paths (no ``..``, not absolute) are returned.
-    """
-    p = Path(folder) / MANIFEST
-    try:
-        if os.path.islink(p) or not p.is_file() or p.stat().st_size > MAX_MANIFEST_BYTES:
-            return None
-        doc = json.loads(p.read_text(encoding="utf-8"))
-    except (OSError, ValueError, RecursionError):
-        return None
-    if not isinstance(doc, dict) or doc.get("format") != MANIFEST_FORMAT \
-            or doc.get("version") != MANIFEST_VERSION:
-        return None
-    files, folders = doc.get("files"), doc.get("folders", [])
-    if not isinstance(files, dict) or not isinstance(folders, list):
-        return None
-    if any(_safe_rel(k) is None or not isinstance(v, str) for k, v in files.items()):
-        return None
-    if any(_safe_rel(d) is None for d in folders):
-        return None
-    return {"command": doc.get("command"), "files": files, "folders": folders}
-
-
-def _strangers(folder: Path, manifest: dict, limit: int = 3) -> list[str]:
-    """Entries of `folder` the manifest does not vouch for (foreign, changed, links)."""
-    out = []
-    files, folders = manifest["files"], set(manifest["folders"])
-    for dirpath, dirnames, filenames in os.walk(folder):
-        base = Path(dirpath)
-        for d in dirnames:
-            rel = (base / d).relative_to(folder).as_posix()
-            if os.path.islink(base / d) or rel not in folders:
-                out.append(rel + "/")
-        for f in filenames:
-            rel = (base / f).relative_to(folder).as_posix()
-            if rel in (MANIFEST, PARTIAL_MARKER):
-                continue
-            p = base / f
-            if os.path.islink(p) or not p.is_file() or rel not in files:
-                out.append(rel)
-            elif _sha256(p) != files[rel]:
-                out.append(rel + " (changed)")
-        if len(out) >= limit:
-            break
-    return out[:limit]
 
 
 # --------------------------------------------------------------------------------------
@@ -480,11 +301,11 @@ def _discard_old(old: Path, out: Path, notes: list) -> None:
         manifest = read_manifest(old)
         if manifest is not None:
             for rel, digest in manifest["files"].items():
-                p = _plain_inside(old, _safe_rel(rel))
-                if p is not None and p.is_file() and _sha256(p) == digest:
+                p = plain_inside(old, safe_rel(rel))
+                if p is not None and p.is_file() and sha256(p) == digest:
                     p.unlink()
             for d in sorted(manifest["folders"], key=lambda r: -len(PurePosixPath(r).parts)):
-                p = _plain_inside(old, _safe_rel(d))
+                p = plain_inside(old, safe_rel(d))
                 if p is not None:
                     with contextlib.suppress(OSError):
                         os.rmdir(p)
@@ -544,10 +365,10 @@ def _target_state(out: Path, given, replace: bool) -> str:
         raise SurveyError(f"not replaced: this folder was not written by envelope (no valid "
                           f"{MANIFEST}); choose another --out or empty it yourself",
                           str(given), "--out")
-    strangers = _strangers(out, manifest)
-    if strangers:
+    foreign = strangers(out, manifest)
+    if foreign:
         raise SurveyError("not replaced: it holds files envelope did not write or that changed "
-                          f"since: {', '.join(strangers)}; move them away or choose another --out",
+                          f"since: {', '.join(foreign)}; move them away or choose another --out",
                           str(given), "--out")
     return "ours"
 
@@ -610,7 +431,7 @@ def staged_folder(out_dir: str | Path, replace: bool = False, inputs=(), command
     """
     given = Path(out_dir)
     out = _real(given, given)
-    hold = hold or _no_hold
+    hold = hold or no_hold
     notes = [] if notes is None else notes
     check_apart(out, inputs, given)
     if os.path.lexists(out) and not out.is_dir():
@@ -624,7 +445,7 @@ def staged_folder(out_dir: str | Path, replace: bool = False, inputs=(), command
             tmp = _new_partial(out)
             try:
                 yield tmp
-                _write_manifest(tmp, command)
+                write_manifest(tmp, command)
                 _commit(tmp, out, given, replace, hold, notes)
             finally:
                 if os.path.lexists(tmp):
@@ -684,7 +505,7 @@ def refreshed_folder(out_dir: str | Path, hold=None, command: str = "rerender",
     """
     given = Path(out_dir)
     out = _real(given, given, "output folder")
-    hold = hold or _no_hold
+    hold = hold or no_hold
     if not out.is_dir():
         raise SurveyError("not a folder; expected an output folder written by `envelope assess`",
                           str(given))
@@ -713,12 +534,12 @@ def refreshed_folder(out_dir: str | Path, hold=None, command: str = "rerender",
 
 def _check_replaceable(out: Path, given, manifest: dict, rel: str) -> Path:
     """``out/rel`` if absent, or present and written by this tool unchanged; else refuse."""
-    dst = _plain_inside(out, PurePosixPath(rel))
+    dst = plain_inside(out, PurePosixPath(rel))
     if dst is None:
         raise SurveyError("a symbolic link is in the way; move it away", str(Path(given) / rel))
     if os.path.lexists(dst):
         digest = manifest["files"].get(rel)
-        if not dst.is_file() or digest is None or _sha256(dst) != digest:
+        if not dst.is_file() or digest is None or sha256(dst) != digest:
             raise SurveyError("not overwritten: envelope did not write this file (or it changed "
                               "since); move it away and run again", str(Path(given) / rel))
     return dst
@@ -733,7 +554,7 @@ def _commit_changed(tmp: Path, out: Path, given, manifest: dict, command: str, h
             rel = src.relative_to(tmp).as_posix()
             if rel in (PARTIAL_MARKER, MANIFEST):
                 continue
-            digest = _sha256(src)
+            digest = sha256(src)
             dst = _check_replaceable(out, given, manifest, rel)
             if os.path.lexists(dst) and files[rel] == digest:
                 continue

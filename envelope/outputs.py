@@ -13,7 +13,8 @@ import shutil
 from pathlib import Path, PurePosixPath
 
 from .errors import SurveyError
-from .folders import Interrupted, Interrupts, refreshed_folder, staged_folder
+from .folders import refreshed_folder, staged_folder
+from .interrupts import Interrupted, Interrupts
 from .results import defects_table, dumps, elements_table, measures_table
 
 __all__ = [

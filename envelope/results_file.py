@@ -17,7 +17,7 @@ import re
 from pathlib import Path, PurePosixPath
 
 from .errors import SurveyError
-from .folders import _plain_inside, _safe_rel
+from .manifest import plain_inside, safe_rel
 from .results import SCHEMA, SCHEMA_VERSION
 
 __all__ = [
@@ -283,11 +283,11 @@ def checked_figures(results: dict, out_dir: str | Path) -> list[PurePosixPath]:
     for field, rel in _figure_refs(results):
         if rel is None:
             continue
-        p = _safe_rel(rel)
+        p = safe_rel(rel)
         if p is None or len(p.parts) < 2 or p.parts[0] != "figures" or p.suffix.lower() != ".png":
             raise SurveyError("figure path must be figures/NAME.png inside the output folder",
                               str(out_dir / "results.json"), field)
-        full = _plain_inside(out_dir, p)
+        full = plain_inside(out_dir, p)
         if full is None:
             raise SurveyError("figure path passes through a symbolic link; only figures inside "
                               "the output folder are embedded", str(out_dir / "results.json"), field)

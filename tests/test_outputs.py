@@ -26,14 +26,8 @@ from safety_support import DRAWS, cli, copy_output, digest, error_line, names, s
 
 import envelope.assess
 import envelope.folders
-from envelope.folders import (
-    MANIFEST,
-    PARTIAL_MARKER,
-    Interrupted,
-    Interrupts,
-    _strangers,
-    read_manifest,
-)
+from envelope.interrupts import Interrupted, Interrupts
+from envelope.manifest import MANIFEST, PARTIAL_MARKER, read_manifest, strangers
 
 
 @pytest.fixture(scope="module")
@@ -194,7 +188,7 @@ def test_replace_swaps_an_earlier_output_whole(assessed, survey_dir, tmp_path):
     m = read_manifest(out)
     assert m["command"] == "correct" and set(m["files"]) == {"corrected.json",
                                                              "room-north-surface-c.tif"}
-    assert _strangers(out, m) == []
+    assert strangers(out, m) == []
     assert digest(survey_dir) == inputs
     assert names(tmp_path) == ["out", "survey"]
 
@@ -408,7 +402,7 @@ def test_signal_at_the_final_move_leaves_a_whole_output(survey_dir, tmp_path, mo
     assert res.exit_code == 143, res.output
     assert "after the outputs were complete; they are whole in" in res.output
     m = read_manifest(tmp_path / "out")
-    assert m is not None and _strangers(tmp_path / "out", m) == []
+    assert m is not None and strangers(tmp_path / "out", m) == []
     assert sorted(m["files"]) == ["corrected.json", "room-north-surface-c.tif"]
     assert names(tmp_path) == ["out", "survey"]
 
@@ -459,7 +453,7 @@ def test_rerender_rewrites_reports_and_keeps_the_folder_ours(assessed, tmp_path)
     assert (out / "report.html").stat().st_size > 0
     assert (out / "results.json").read_bytes() == results_before
     m = read_manifest(out)
-    assert "report.html" in m["files"] and _strangers(out, m) == []
+    assert "report.html" in m["files"] and strangers(out, m) == []
     assert names(tmp_path) == ["out"]
     assert "data:image/png;base64," in (out / "report.html").read_text(encoding="utf-8")
 
