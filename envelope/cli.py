@@ -61,7 +61,7 @@ def guarded(on_stop: str = "nothing written"):
     SIGINT, SIGTERM and SIGHUP exit 128 + the signal number after the cleanup of the
     `with` blocks inside (the staging folder is removed); anything else is a bug, still
     reported on one line with exit 2 (``ENVELOPE_DEBUG=1`` shows the traceback). Yields the
-    installed `envelope.folders.Interrupts` (its ``hold`` protects the final renames).
+    installed `envelope.interrupts.Interrupts` (its ``hold`` protects the final renames).
     """
     interrupts = Interrupts()
     with interrupts.installed():
@@ -90,8 +90,19 @@ def guarded(on_stop: str = "nothing written"):
         except Exception as exc:
             if os.environ.get("ENVELOPE_DEBUG"):
                 raise
-            _fail(SurveyError(f"unexpected {type(exc).__name__} ({exc}); nothing written. This is "
-                              "a bug of envelope: please report it (ENVELOPE_DEBUG=1 shows where)"))
+            _fail(SurveyError(f"unexpected {type(exc).__name__} at {_where(exc)}; nothing "
+                              "written. This is a bug of envelope: please report it "
+                              "(ENVELOPE_DEBUG=1 shows the traceback)"))
+
+
+def _where(exc: BaseException) -> str:
+    """``module.py:line`` of the innermost frame of `exc` (its text may hold input bytes)."""
+    tb = exc.__traceback__
+    while tb is not None and tb.tb_next is not None:
+        tb = tb.tb_next
+    if tb is None:
+        return "an unknown place"
+    return f"{Path(tb.tb_frame.f_code.co_filename).name}:{tb.tb_lineno}"
 
 
 def _check_draws(draws: int | None) -> None:
