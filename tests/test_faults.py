@@ -332,6 +332,7 @@ def test_terminal_json_round_trips_without_raw_controls():
 
 def test_control_characters_in_paths_never_reach_the_terminal(survey_dir, tmp_path):
     out = tmp_path / "out\x1b]0;pwned\x07\x1b[2J"
+    inputs = digest(survey_dir)
     res = cli("correct", survey_dir, "--out", out)
     assert res.exit_code == 0, res.output
     assert "wrote 1 corrected images to" in res.output
@@ -340,6 +341,7 @@ def test_control_characters_in_paths_never_reach_the_terminal(survey_dir, tmp_pa
     line = error_line(res)
     assert "output folder exists and is not empty" in line
     assert not re.search("[\x00-\x1f\x7f-\x9f]", res.output.replace("\n", ""))
+    assert digest(survey_dir) == inputs and names(tmp_path) == sorted(["survey", out.name])
 
 
 def test_control_characters_in_names_never_reach_the_terminal(tmp_path):
