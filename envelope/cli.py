@@ -112,6 +112,37 @@ def _check_draws(draws: int | None) -> None:
                           "analysis.monte_carlo_draws; choose a number in it", None, "--draws")
 
 
+def _input_folders(s) -> list[Path]:
+    """The survey folder and the folder of every file the survey names (links resolved):
+    the places an output folder must stay apart from."""
+    import dataclasses
+
+    found: dict[str, Path] = {}
+
+    def walk(obj, depth: int) -> None:
+        if depth > 8:
+            return
+        if isinstance(obj, Path):
+            try:
+                real = obj.resolve()
+                folder = real if real.is_dir() else real.parent
+            except (OSError, RuntimeError, ValueError):
+                return
+            found.setdefault(str(folder), folder)
+        elif dataclasses.is_dataclass(obj) and not isinstance(obj, type):
+            for f in dataclasses.fields(obj):
+                walk(getattr(obj, f.name, None), depth + 1)
+        elif isinstance(obj, list | tuple):
+            for item in obj:
+                walk(item, depth + 1)
+        elif isinstance(obj, dict):
+            for item in obj.values():
+                walk(item, depth + 1)
+
+    walk(s, 0)
+    return [Path(s.root), *found.values()]
+
+
 def _load(path: Path):
     from .survey import load_survey
 
@@ -245,7 +276,7 @@ def correct(
     notes: list[str] = []
     with guarded() as interrupts:
         s = _load(survey)
-        with staged_folder(out, replace, inputs=[s.root], command="correct",
+        with staged_folder(out, replace, inputs=_input_folders(s), command="correct",
                            hold=interrupts.hold, notes=notes) as tmp:
             index = []
             for t in s.thermograms:
@@ -305,7 +336,7 @@ def assess(
                 s.analysis, interior_convection=convection.value))
         steps = len(s.thermograms) * 2 + len(s.series) + 2
         with _Progress(steps, quiet or json_out) as progress, \
-                staged_folder(out, replace, inputs=[s.root], command="assess",
+                staged_folder(out, replace, inputs=_input_folders(s), command="assess",
                               hold=interrupts.hold, notes=notes) as tmp:
             a = assess_survey(s, progress)
             if len(a.failures) == len(s.thermograms) + len(s.series):

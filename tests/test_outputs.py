@@ -101,6 +101,26 @@ def test_out_overlapping_the_survey_is_refused(survey_dir, tmp_path, command, wh
     assert names(tmp_path) == (["link", "survey"] if link.is_symlink() else ["survey"])
 
 
+def test_out_inside_the_folder_of_a_linked_input_is_refused(survey_dir, tmp_path):
+    """A thermogram linked from an exports folder makes that folder an input too."""
+    exports = tmp_path / "exports"
+    exports.mkdir()
+    npy = survey_dir / "thermograms" / "room-north.npy"
+    (exports / "room-north.npy").write_bytes(npy.read_bytes())
+    npy.unlink()
+    npy.symlink_to(exports / "room-north.npy")
+    before, inputs = digest(exports), digest(survey_dir)
+    res = cli("correct", survey_dir, "--out", exports / "out", "--quiet")
+    assert res.exit_code == 2, res.output
+    line = error_line(res)
+    # refused here as an output inside an input folder, or by the loader as a link leaving
+    # the survey: either way nothing is written
+    assert f"{exports / 'out'}: --out: the output folder lies inside the input folder" in line \
+        or "room-north.npy" in line, line
+    assert digest(exports) == before and digest(survey_dir) == inputs
+    assert names(tmp_path) == ["exports", "survey"]
+
+
 def test_out_that_is_a_file_is_refused(survey_dir, tmp_path):
     target = tmp_path / "out"
     target.write_text("my notes\n")
