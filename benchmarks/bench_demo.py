@@ -19,9 +19,9 @@ ROOT = Path(__file__).resolve().parents[1]
 def run(quick: bool = False) -> dict[str, float]:
     sys.path.insert(0, str(ROOT))
     from envelope.assess import StageClock, assess_survey
-    from envelope.outputs import staged_folder, write_figures
+    from envelope.outputs import staged_folder, write_figures, write_tables
     from envelope.report import write_reports
-    from envelope.results import to_results, write_tables
+    from envelope.results import to_results
     from envelope.survey import load_survey
 
     clock = StageClock()

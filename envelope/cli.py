@@ -1,23 +1,31 @@
-"""Command line (edge): parse, call, format. Exit codes: 0 done; 2 user error (one line, no
-traceback, nothing written); 3 done but some thermograms failed (listed in the results);
-130 interrupted (nothing written)."""
+"""Command line (edge): parse, call, format. Exit codes: 0 done; 2 user error or file-system
+fault (one line naming the path and what to do, no traceback, nothing written, inputs never
+touched); 3 done but some thermograms failed (listed in the results); 128 + signal number when
+stopped by SIGINT (130), SIGHUP (129) or SIGTERM (143), nothing written."""
 
 from __future__ import annotations
 
+import contextlib
 import json
+import os
 import sys
 import warnings
 from enum import StrEnum
 from pathlib import Path
 from typing import Annotated
 
+import click
 import typer
 
 from .errors import EnvelopeWarning, SurveyError
+from .faults import MAX_MESSAGE_CHARS, os_error_to_survey_error, terminal_json, terminal_text
+from .interrupts import Interrupted, Interrupts
 
 EXIT_USER_ERROR = 2
 EXIT_PARTIAL = 3
 EXIT_INTERRUPTED = 130
+DRAWS_RANGE = (100, 1_000_000)
+"""Allowed ``--draws``: the range of the survey key ``analysis.monte_carlo_draws``."""
 
 app = typer.Typer(
     name="envelope",
@@ -30,14 +38,109 @@ app = typer.Typer(
 )
 
 SurveyArg = Annotated[Path, typer.Argument(help="Survey folder (holding survey.toml) or the .toml file itself.")]
-OutOpt = Annotated[Path, typer.Option("--out", "-o", help="New output folder; must not exist or be empty.")]
+OutOpt = Annotated[Path, typer.Option("--out", "-o", help="New output folder, apart from the survey folder; must not exist or be empty.")]
 QuietOpt = Annotated[bool, typer.Option("--quiet", "-q", help="No progress or summary on the terminal.")]
-ReplaceOpt = Annotated[bool, typer.Option("--replace", help="Replace an existing output folder (only once the new one is complete).")]
+ReplaceOpt = Annotated[bool, typer.Option("--replace", help="Replace an earlier output folder of envelope (one holding only files envelope wrote, see its manifest.json), once the new one is complete.")]
 
 
 def _fail(exc: Exception) -> None:
-    typer.echo(f"envelope: error: {exc}", err=True)
+    typer.echo(f"envelope: error: {terminal_text(exc, MAX_MESSAGE_CHARS)}", err=True)
     raise typer.Exit(EXIT_USER_ERROR)
+
+
+def _t(value, limit: int = 40) -> str:
+    """Survey text for the terminal: no control characters, at most `limit` characters."""
+    return terminal_text(value, limit)
+
+
+@contextlib.contextmanager
+def guarded(on_stop: str = "nothing written"):
+    """Run a command body so that every fault ends in one line and a defined exit code.
+
+    `SurveyError` and file-system faults (`OSError`, mapped by `envelope.faults`) exit 2;
+    SIGINT, SIGTERM and SIGHUP exit 128 + the signal number after the cleanup of the
+    `with` blocks inside (the staging folder is removed); anything else is a bug, still
+    reported on one line with exit 2 (``ENVELOPE_DEBUG=1`` shows the traceback). Yields the
+    installed `envelope.interrupts.Interrupts` (its ``hold`` protects the final renames).
+    """
+    interrupts = Interrupts()
+    with interrupts.installed():
+        try:
+            yield interrupts
+        except (click.exceptions.Exit, click.exceptions.Abort, click.exceptions.ClickException):
+            raise
+        except Interrupted as exc:
+            if exc.committed is not None:
+                msg = (f"interrupted ({exc.signal_name}) after the outputs were complete; they "
+                       f"are whole in {exc.committed}")
+            else:
+                msg = f"interrupted ({exc.signal_name}); {on_stop}"
+            typer.echo(f"envelope: {terminal_text(msg, MAX_MESSAGE_CHARS)}", err=True)
+            raise typer.Exit(exc.exit_code) from None
+        except KeyboardInterrupt:
+            typer.echo(f"envelope: interrupted; {on_stop}", err=True)
+            raise typer.Exit(EXIT_INTERRUPTED) from None
+        except SurveyError as exc:
+            _fail(exc)
+        except OSError as exc:
+            _fail(os_error_to_survey_error(exc, "read"))
+        except (RecursionError, MemoryError):
+            _fail(SurveyError("an input is too large or nested too deeply for this machine; "
+                              "check the survey files; nothing written"))
+        except Exception as exc:
+            if os.environ.get("ENVELOPE_DEBUG"):
+                raise
+            _fail(SurveyError(f"unexpected {type(exc).__name__} at {_where(exc)}; nothing "
+                              "written. This is a bug of envelope: please report it "
+                              "(ENVELOPE_DEBUG=1 shows the traceback)"))
+
+
+def _where(exc: BaseException) -> str:
+    """``module.py:line`` of the innermost frame of `exc` (its text may hold input bytes)."""
+    tb = exc.__traceback__
+    while tb is not None and tb.tb_next is not None:
+        tb = tb.tb_next
+    if tb is None:
+        return "an unknown place"
+    return f"{Path(tb.tb_frame.f_code.co_filename).name}:{tb.tb_lineno}"
+
+
+def _check_draws(draws: int | None) -> None:
+    lo, hi = DRAWS_RANGE
+    if draws is not None and not lo <= draws <= hi:
+        raise SurveyError(f"{draws} draws is outside {lo}…{hi}, the range of the survey key "
+                          "analysis.monte_carlo_draws; choose a number in it", None, "--draws")
+
+
+def _input_folders(s) -> list[Path]:
+    """The survey folder and the folder of every file the survey names (links resolved):
+    the places an output folder must stay apart from."""
+    import dataclasses
+
+    found: dict[str, Path] = {}
+
+    def walk(obj, depth: int) -> None:
+        if depth > 8:
+            return
+        if isinstance(obj, Path):
+            try:
+                real = obj.resolve()
+                folder = real if real.is_dir() else real.parent
+            except (OSError, RuntimeError, ValueError):
+                return
+            found.setdefault(str(folder), folder)
+        elif dataclasses.is_dataclass(obj) and not isinstance(obj, type):
+            for f in dataclasses.fields(obj):
+                walk(getattr(obj, f.name, None), depth + 1)
+        elif isinstance(obj, list | tuple):
+            for item in obj:
+                walk(item, depth + 1)
+        elif isinstance(obj, dict):
+            for item in obj.values():
+                walk(item, depth + 1)
+
+    walk(s, 0)
+    return [Path(s.root), *found.values()]
 
 
 def _load(path: Path):
@@ -49,7 +152,7 @@ def _load(path: Path):
 def _warn_to_stderr(quiet: bool):
     def show(message, category, filename, lineno, file=None, line=None):
         if not quiet:
-            typer.echo(f"envelope: warning: {message}", err=True)
+            typer.echo(f"envelope: warning: {terminal_text(message, MAX_MESSAGE_CHARS)}", err=True)
     warnings.showwarning = show
     warnings.simplefilter("default", EnvelopeWarning)
 
@@ -171,43 +274,45 @@ def correct(
     import numpy as np
     import tifffile
 
-    from .outputs import staged_folder
+    from .folders import staged_folder
+    from .outputs import inside
     from .stages.correct import correct_view
     from .views import SurveyFolder
 
     _warn_to_stderr(quiet)
-    try:
+    notes: list[str] = []
+    with guarded() as interrupts:
         s = _load(survey)
-        with staged_folder(out, replace) as tmp:
+        with staged_folder(out, replace, inputs=_input_folders(s), command="correct",
+                           hold=interrupts.hold, notes=notes) as tmp:
             index = []
             for t in s.thermograms:
                 cor = correct_view(SurveyFolder(s).open_view(t), s.elements, s.camera,
                                    s.conditions, s.file.name)
-                tifffile.imwrite(tmp / f"{t.id}-surface-c.tif", cor.object_c.astype(np.float32),
+                name = f"{t.id}-surface-c.tif"
+                tifffile.imwrite(inside(tmp, name), cor.object_c.astype(np.float32),
                                  compression="zlib", metadata=None)
-                entry = {"id": t.id, "file": f"{t.id}-surface-c.tif",
+                entry = {"id": t.id, "file": name,
                          "transmittance": float(cor.transmittance),
                          "camera_offset_k": cor.offset.value_k, "unit": "°C"}
                 if metric_cm is not None:
                     from .geometry import rectify
 
                     rec = rectify(cor.object_c, cor.homography, metric_cm)
-                    tifffile.imwrite(tmp / f"{t.id}-metric-c.tif", rec.image.astype(np.float32),
+                    metric_name = f"{t.id}-metric-c.tif"
+                    tifffile.imwrite(inside(tmp, metric_name), rec.image.astype(np.float32),
                                      compression="zlib", metadata=None)
-                    entry["metric"] = {"file": f"{t.id}-metric-c.tif", "cm_per_px": rec.cm_per_px,
+                    entry["metric"] = {"file": metric_name, "cm_per_px": rec.cm_per_px,
                                        "origin_m": list(rec.origin_m), "extent_m": list(rec.extent_m),
                                        "row_0_at_top": not rec.y_down}
                 index.append(entry)
                 if not quiet:
-                    typer.echo(f"corrected {t.id}  (τ = {cor.transmittance:.4f})", err=True)
+                    typer.echo(f"corrected {_t(t.id)}  (τ = {cor.transmittance:.4f})", err=True)
             (tmp / "corrected.json").write_text(json.dumps(index, indent=2, sort_keys=True) + "\n")
-    except SurveyError as exc:
-        _fail(exc)
-    except KeyboardInterrupt:
-        typer.echo("envelope: interrupted; nothing written", err=True)
-        raise typer.Exit(EXIT_INTERRUPTED) from None
+    for note in notes:
+        typer.echo(f"envelope: note: {terminal_text(note, MAX_MESSAGE_CHARS)}", err=True)
     if not quiet:
-        typer.echo(f"wrote {len(index)} corrected images to {out}")
+        typer.echo(f"wrote {len(index)} corrected images to {_t(out, 300)}")
 
 
 @app.command()
@@ -217,17 +322,20 @@ def assess(
     replace: ReplaceOpt = False,
     quiet: QuietOpt = False,
     json_out: Annotated[bool, typer.Option("--json", help="Print a summary as JSON on stdout (for scripts).")] = False,
-    draws: Annotated[int | None, typer.Option("--draws", min=100, help="Monte Carlo draws per element (overrides analysis.monte_carlo_draws of the survey).")] = None,
+    draws: Annotated[int | None, typer.Option("--draws", help=f"Monte Carlo draws per element, {DRAWS_RANGE[0]}…{DRAWS_RANGE[1]} (overrides analysis.monte_carlo_draws of the survey).")] = None,
     convection: Annotated[Convection | None, typer.Option("--convection", help="Interior convection [W/(m²·K)]: the ensemble of correlations that fit each surface (default), or one model fixed (overrides analysis.interior_convection of the survey).")] = None,
 ):
     """Assess a survey: corrected temperatures, U-values with 95 % intervals, fRsi and mould/condensation risk, ranked defects, heat loss, retrofit case and the reports."""
     import dataclasses
 
     from .assess import assess_survey
-    from .outputs import staged_folder, write_outputs
+    from .folders import staged_folder
+    from .outputs import write_outputs
 
     _warn_to_stderr(quiet or json_out)
-    try:
+    notes: list[str] = []
+    with guarded("no output folder written") as interrupts:
+        _check_draws(draws)
         s = _load(survey)
         if draws is not None:
             s = dataclasses.replace(s, analysis=dataclasses.replace(s.analysis, monte_carlo_draws=draws))
@@ -235,20 +343,19 @@ def assess(
             s = dataclasses.replace(s, analysis=dataclasses.replace(
                 s.analysis, interior_convection=convection.value))
         steps = len(s.thermograms) * 2 + len(s.series) + 2
-        with _Progress(steps, quiet or json_out) as progress, staged_folder(out, replace) as tmp:
+        with _Progress(steps, quiet or json_out) as progress, \
+                staged_folder(out, replace, inputs=_input_folders(s), command="assess",
+                              hold=interrupts.hold, notes=notes) as tmp:
             a = assess_survey(s, progress=progress)
             if len(a.failures) == len(s.thermograms) + len(s.series):
                 raise SurveyError("no thermogram could be assessed: " + "; ".join(
                     f.error for f in a.failures))
             results = write_outputs(a, tmp, progress)
-    except SurveyError as exc:
-        _fail(exc)
-    except KeyboardInterrupt:
-        typer.echo("envelope: interrupted; no output folder written", err=True)
-        raise typer.Exit(EXIT_INTERRUPTED) from None
+    for note in notes:
+        typer.echo(f"envelope: note: {terminal_text(note, MAX_MESSAGE_CHARS)}", err=True)
     summary = _summary(results, out)
     if json_out:
-        typer.echo(json.dumps(summary, indent=2, sort_keys=True, ensure_ascii=False))
+        typer.echo(terminal_json(summary))
     elif not quiet:
         _print_summary(summary)
     if results["failures"]:
@@ -274,20 +381,22 @@ def _print_summary(s: dict) -> None:
     for e in s["elements"]:
         u = e["u_w_m2k"]
         iv = f"[{e['u_low95_w_m2k']:.2f}, {e['u_high95_w_m2k']:.2f}]" if e["u_low95_w_m2k"] is not None else ""
-        extra = "".join(f"  {k}: {e[k]}" for k in ("risk", "verdict") if e.get(k))
+        extra = "".join(f"  {k}: {_t(e[k])}" for k in ("risk", "verdict") if e.get(k))
         if e.get("u_valid") is False:
             extra += "  NOT VALID (see report)"
-        typer.echo(f"  {e['name']:<26} {e['thermogram']:<22} U {u:.2f} W/(m²·K) 95 % {iv}{extra}")
+        typer.echo(f"  {_t(e['name']):<26} {_t(e['thermogram']):<22} U {u:.2f} W/(m²·K) 95 % {iv}{extra}")
     typer.echo(f"Defects ({len(s['defects'])}), ranked:")
     for d in s["defects"][:10]:
         kwh = f"{d['annual_kwh']:.0f} kWh/yr" if d.get("annual_kwh") is not None else ""
-        typer.echo(f"  {d['rank']:>2}. {d['id']:<4} {d['defect_class']:<26} {d['element']:<24} {kwh}  risk: {d['risk']}")
+        typer.echo(f"  {d['rank']:>2}. {_t(d['id']):<4} {_t(d.get('defect_class')):<26} "
+                   f"{_t(d['element']):<24} {kwh}  risk: {_t(d['risk'])}")
     if s["h_w_k"] is not None:
         annual = f", about {s['annual_kwh']:.0f} kWh/yr" if s["annual_kwh"] is not None else ""
         typer.echo(f"Fabric heat-loss coefficient H = {s['h_w_k']:.1f} W/K{annual}")
     for f in s["failures"]:
-        typer.echo(f"FAILED {f['thermogram']}: {f['error']}", err=True)
-    typer.echo(f"Outputs in {s['out']} (report.html, check.html, summary.html, summary.pdf)")
+        typer.echo(f"FAILED {_t(f['thermogram'])}: {terminal_text(f['error'], MAX_MESSAGE_CHARS)}",
+                   err=True)
+    typer.echo(f"Outputs in {_t(s['out'], 300)} (report.html, check.html, summary.html, summary.pdf)")
 
 
 @app.command()
@@ -296,23 +405,12 @@ def rerender(
     quiet: QuietOpt = False,
 ):
     """Rewrite the reports of an existing output folder from its results.json (no recomputing)."""
-    from .report import write_reports
+    from .outputs import rerender_reports
 
-    try:
-        res_path = Path(out_dir) / "results.json"
-        if not res_path.is_file():
-            raise SurveyError("no results.json here; expected a folder written by `envelope assess`", str(out_dir))
-        try:
-            results = json.loads(res_path.read_text(encoding="utf-8"))
-        except (json.JSONDecodeError, UnicodeDecodeError) as exc:
-            raise SurveyError(f"not valid JSON ({exc})", str(res_path)) from None
-        if results.get("schema") != "envelope-results":
-            raise SurveyError("not an envelope results file", str(res_path), "schema")
-        write_reports(results, Path(out_dir), Path(out_dir) / "figures")
-    except SurveyError as exc:
-        _fail(exc)
+    with guarded("the reports were left as they were") as interrupts:
+        rerender_reports(out_dir, hold=interrupts.hold)
     if not quiet:
-        typer.echo(f"reports rewritten in {out_dir}")
+        typer.echo(f"reports rewritten in {_t(out_dir, 300)}")
 
 
 @app.command()

@@ -1,63 +1,87 @@
-"""Output folders that appear whole or not at all (edge: file system).
+"""Writing the outputs of a run (edge: file system): tables, figures, reports.
 
-Outputs are written into a hidden temporary folder beside the target and moved into place
-only when everything is written (SPEC §6): an error or an interruption (SIGINT) leaves no
-half-written output folder, and an existing folder is never touched unless replacing it was
-asked for.
+Everything is written into a staging folder (`envelope.folders.staged_folder`) that is moved
+into place only when complete (SPEC §6). CSV text cells that a spreadsheet would run as a
+formula are neutralised here; numbers stay numbers. Every file name built from an
+identifier is checked to stay inside the output folder.
 """
 
 from __future__ import annotations
 
-import contextlib
 import os
 import shutil
-import tempfile
-from pathlib import Path
+from pathlib import Path, PurePosixPath
 
 from .errors import SurveyError
+from .folders import refreshed_folder, staged_folder
+from .interrupts import Interrupted, Interrupts
+from .results import defects_table, dumps, elements_table, measures_table
+
+__all__ = [
+    "FORMULA_START",
+    "REPORT_FILES",
+    "Interrupted",
+    "Interrupts",
+    "inside",
+    "neutralise_cell",
+    "rerender_reports",
+    "staged_folder",
+    "write_figures",
+    "write_outputs",
+    "write_tables",
+]
+
+REPORT_FILES = ("report.html", "check.html", "summary.html", "summary.pdf",
+                "figures/heat-loss.png", "figures/savings.png")
+"""Files `envelope.report.write_reports` writes, relative to the output folder."""
+
+FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+"""First characters that make a spreadsheet read a text cell as a formula (OWASP, "CSV
+Injection"); such cells get a leading apostrophe."""
 
 
-def check_target(out_dir: Path, replace: bool = False) -> None:
-    """Refuse an output folder that exists and is not empty (unless `replace`)."""
-    out_dir = Path(out_dir)
-    if out_dir.exists() and not out_dir.is_dir():
-        raise SurveyError("output path exists and is not a folder", str(out_dir), "--out")
-    if out_dir.exists() and any(out_dir.iterdir()) and not replace:
-        raise SurveyError("output folder exists and is not empty; choose a new one or pass "
-                          "--replace", str(out_dir), "--out")
-
-
-@contextlib.contextmanager
-def staged_folder(out_dir: str | Path, replace: bool = False):
-    """Yield a temporary folder; on success move it to `out_dir`, on any failure delete it.
+def neutralise_cell(value):
+    """A CSV cell a spreadsheet shows as text: text starting with `FORMULA_START` gets a
+    leading ``'``; numbers, booleans and missing values are returned unchanged.
 
     Examples
     --------
-    >>> with staged_folder("out") as tmp:          # doctest: +SKIP
-    ...     (tmp / "results.json").write_text("{}")
+    >>> neutralise_cell("=HYPERLINK(\\"x\\")"), neutralise_cell(-0.5), neutralise_cell("wall")
+    ('\\'=HYPERLINK("x")', -0.5, 'wall')
     """
-    out_dir = Path(out_dir).absolute()
-    check_target(out_dir, replace)
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out_dir.name}.partial-", dir=out_dir.parent))
-    try:
-        yield tmp
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    old = None
-    if out_dir.exists():
-        old = out_dir.with_name(f".{out_dir.name}.old-{os.getpid()}")
-        out_dir.rename(old)
-    try:
-        tmp.rename(out_dir)
-    except BaseException:
-        if old is not None:
-            old.rename(out_dir)
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    if old is not None:
-        shutil.rmtree(old, ignore_errors=True)
+    if isinstance(value, str) and value.startswith(FORMULA_START):
+        return "'" + value
+    return value
+
+
+def inside(folder: Path, rel: str) -> Path:
+    """``folder / rel``, refused unless it stays inside `folder` (no ``..``, not absolute)."""
+    p = PurePosixPath(rel)
+    if p.is_absolute() or any(part in ("", ".", "..") for part in p.parts) or "\\" in rel \
+            or "\x00" in rel:
+        raise SurveyError("a file name built from this identifier would leave the output "
+                          "folder; use letters, digits, '-', '_' and '.' only", rel)
+    return Path(folder).joinpath(*p.parts)
+
+
+def write_tables(results: dict, out_dir: Path) -> None:
+    """``results.json``, ``elements.csv``, ``defects.csv``, ``measures.csv`` in `out_dir`.
+
+    Text cells of the CSV tables pass through `neutralise_cell`; numeric columns are written
+    as numbers (6 significant digits).
+    """
+    from pandas.api.types import is_bool_dtype, is_numeric_dtype
+
+    out_dir = Path(out_dir)
+    (out_dir / "results.json").write_text(dumps(results), encoding="utf-8")
+    for name, table in (("elements", elements_table), ("defects", defects_table),
+                        ("measures", measures_table)):
+        frame = table(results)
+        for col in frame.columns:
+            if not (is_numeric_dtype(frame[col]) or is_bool_dtype(frame[col])):
+                frame[col] = frame[col].map(neutralise_cell)
+        frame.to_csv(out_dir / f"{name}.csv", index=False, float_format="%.6g",
+                     lineterminator="\n")
 
 
 def write_figures(assessment, out_dir: Path, progress=None) -> None:
@@ -72,23 +96,23 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
     limit = assessment.limit_mould
     for t in assessment.views:
         tg = t.thermogram
-        paths = figure_paths(tg.id, tg.side, t.status)
+        paths = {k: inside(out_dir, v) for k, v in figure_paths(tg.id, tg.side, t.status).items()}
         if not paths:
             continue
         title = f"{tg.id} ({tg.side}) — corrected surface temperature"
         fig, _ = image_axes(t.object_c, title=title)
-        save(fig, out_dir / paths["corrected"])
+        save(fig, paths["corrected"])
         if "overlay" in paths:
-            overlay_figure(t.object_c, t.regions, out_dir / paths["overlay"],
+            overlay_figure(t.object_c, t.regions, paths["overlay"],
                            title=f"{tg.id} — elements and reference zones")
             defects_figure(t.object_c, [d for d in assessment.defects if d.thermogram == tg.id],
-                           out_dir / paths["defects"], regions=t.regions,
+                           paths["defects"], regions=t.regions,
                            title=f"{tg.id} — defects, numbered by rank")
         if "u_map" in paths:
-            u_map_figure(t.u_map_w_m2k, t.regions, out_dir / paths["u_map"],
+            u_map_figure(t.u_map_w_m2k, t.regions, paths["u_map"],
                          title=f"{tg.id} — U per pixel ({tg.side} method)")
         if "frsi" in paths:
-            frsi_figure(t.frsi, out_dir / paths["frsi"], limit=limit,
+            frsi_figure(t.frsi, paths["frsi"], limit=limit,
                         title=f"{tg.id} — temperature factor fRsi",
                         outlines=[r.polygon_net for r in t.regions.values()])
         if progress:
@@ -98,13 +122,13 @@ def write_figures(assessment, out_dir: Path, progress=None) -> None:
     from .plots.series import series_figure
 
     for sr in assessment.series:
-        series_figure(dataclasses.asdict(sr), out_dir / f"figures/series-{sr.id}.png")
+        series_figure(dataclasses.asdict(sr), inside(out_dir, f"figures/series-{sr.id}.png"))
 
 
 def write_outputs(assessment, out_dir: Path, progress=None) -> dict:
     """Everything of `envelope assess` into `out_dir` (normally a staged folder)."""
     from .report import write_reports
-    from .results import to_results, write_tables
+    from .results import to_results
 
     out_dir = Path(out_dir)
     results = to_results(assessment)
@@ -116,3 +140,36 @@ def write_outputs(assessment, out_dir: Path, progress=None) -> dict:
     if progress:
         progress("reports")
     return results
+
+
+def rerender_reports(out_dir: str | Path, hold=None) -> dict:
+    """Rewrite the reports of an output folder from its ``results.json`` (no recomputing).
+
+    The results are checked (`envelope.results_file.read_results`); the figures they name are
+    embedded only from inside ``out_dir/figures``; the new reports replace the old ones file
+    by file, and only files this tool wrote (`envelope.folders.refreshed_folder`).
+
+    Returns
+    -------
+    dict
+        The results read.
+    """
+    from .report import write_reports
+    from .results_file import checked_figures, read_results
+
+    out_dir = Path(out_dir)
+    results = read_results(out_dir)
+    figures = checked_figures(results, out_dir)
+    with refreshed_folder(out_dir, hold=hold, expected=REPORT_FILES) as tmp:
+        for rel in figures:  # read-only copies for the lookup; unchanged, so not written back
+            dst = tmp.joinpath(*rel.parts)
+            dst.parent.mkdir(parents=True, exist_ok=True)
+            with open(out_dir.joinpath(*rel.parts), "rb", opener=_no_follow) as src, \
+                    open(dst, "wb") as f:
+                shutil.copyfileobj(src, f)
+        write_reports(results, tmp, tmp / "figures")
+    return results
+
+
+def _no_follow(path, flags):
+    return os.open(path, flags | getattr(os, "O_NOFOLLOW", 0))

@@ -1,4 +1,6 @@
-"""Assessment → the versioned results dict, ``results.json`` and the CSV tables (edge).
+"""Assessment → the versioned results dict and the tables of ``results.json`` and the CSVs.
+
+This module builds dicts and DataFrames only; `envelope.outputs.write_tables` writes them.
 
 Schema ``envelope-results`` version 2 (JSON Schema in ``envelope/schema/``): every number carries its unit in its key
 (``_c`` °C, ``_k`` K, ``_m2`` m², ``_w`` W, ``_w_k`` W/K, ``_w_m2k`` W/(m²·K), ``_w_mk``
@@ -256,13 +258,3 @@ def measures_table(results: dict):
     if results.get("package"):
         rows.append(results["package"])
     return _frame(rows, MEASURE_COLUMNS)
-
-
-def write_tables(results: dict, out_dir: Path) -> None:
-    """``results.json``, ``elements.csv``, ``defects.csv``, ``measures.csv`` in `out_dir`."""
-    out_dir = Path(out_dir)
-    (out_dir / "results.json").write_text(dumps(results), encoding="utf-8")
-    for name, table in (("elements", elements_table), ("defects", defects_table),
-                        ("measures", measures_table)):
-        table(results).to_csv(out_dir / f"{name}.csv", index=False, float_format="%.6g",
-                              lineterminator="\n")

@@ -1,6 +1,9 @@
 """Shared look of every figure: colour maps, colour bars in °C, saving PNGs.
 
 Colour maps are matplotlib's perceptually uniform maps under their matplotlib names.
+Text from the survey (ids, element names) reaches titles, labels and legends: `save` switches
+matplotlib's mathtext parser off for every text of the figure before drawing it, so a
+``$...$`` in a name prints as typed and can never fail to parse (no global setting changed).
 """
 
 from __future__ import annotations
@@ -10,6 +13,7 @@ from pathlib import Path
 import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
+from matplotlib.text import Text
 
 TEMPERATURE_CMAP = "inferno"
 """Surface temperature maps [°C]."""
@@ -84,10 +88,17 @@ def image_axes(image, *, cmap=TEMPERATURE_CMAP, label="Surface temperature [°C]
     return fig, ax
 
 
+def plain_text(fig) -> None:
+    """Switch the mathtext parser off for every text of `fig` (survey text is not math)."""
+    for text in fig.findobj(Text):
+        text.set_parse_math(False)
+
+
 def save(fig, path: str | Path) -> Path:
     """Save `fig` as PNG at `path` (parents created) and close it."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
+    plain_text(fig)
     # one draw (no bbox_inches="tight", which draws twice) and light PNG compression: the
     # figures of a survey are written in a few seconds
     fig.savefig(path, dpi=DPI, metadata={"Software": None}, pil_kwargs={"compress_level": 2})
