@@ -41,7 +41,7 @@ MEASURE_COLUMNS = (
 )
 
 __all__ = ["SCHEMA", "SCHEMA_VERSION", "clean", "figure_paths", "to_results", "dumps",
-           "elements_table", "defects_table", "measures_table", "write_tables", "schema",
+           "elements_table", "defects_table", "measures_table", "schema",
            "validate"]
 
 

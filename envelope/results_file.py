@@ -2,8 +2,8 @@
 
 A results file is read only when it is ours: a regular file inside the output folder (not a
 symbolic link), at most `MAX_RESULTS_BYTES`, UTF-8 JSON whose ``schema`` and
-``schema_version`` are those this version writes, and whose structure passes
-`RESULTS_SCHEMA` (a JSON Schema, checked by the small validator `validate`). Messages name
+``schema_version`` are those this version writes, and that the shipped JSON Schema accepts
+(`envelope.results.schema`, checked by jsonschema). Messages name
 the file and the field, never the foreign bytes. Figures named in it are embedded only when
 they lie inside the output folder's ``figures/`` with no symbolic link on the way.
 """
@@ -11,197 +11,52 @@ they lie inside the output folder's ``figures/`` with no symbolic link on the wa
 from __future__ import annotations
 
 import json
-import math
 import os
-import re
 from pathlib import Path, PurePosixPath
 
 from .errors import SurveyError
 from .manifest import plain_inside, safe_rel
 from .results import SCHEMA, SCHEMA_VERSION
+from .results import schema as results_schema
 
-__all__ = [
-    "MAX_RESULTS_BYTES",
-    "RESULTS_SCHEMA",
-    "checked_figures",
-    "load_schema_file",
-    "minimal_results_schema",
-    "read_results",
-    "validate",
-]
+__all__ = ["MAX_RESULTS_BYTES", "checked_figures", "read_results", "validate"]
 
 MAX_RESULTS_BYTES = 64 * 1024 * 1024
 """Largest results.json read back [bytes]."""
 
 
-def minimal_results_schema() -> dict:
-    """The JSON Schema of what the reports read from a results dict (structure only)."""
-    objects = {"type": "array", "items": {"type": "object"}}
-    text_or_null = {"type": ["string", "null"], "maxLength": 4096}
-    return {
-        "type": "object",
-        "required": ["schema", "schema_version", "survey", "thermograms", "elements", "defects"],
-        "properties": {
-            "schema": {"const": SCHEMA},
-            "schema_version": {"const": SCHEMA_VERSION},
-            "tool_version": {"type": ["string", "null"]},
-            "survey": {"type": "object", "properties": {
-                "site": {"type": ["object", "null"]}, "conditions": {"type": ["object", "null"]},
-                "camera": {"type": ["object", "null"]}, "analysis": {"type": ["object", "null"]}}},
-            "checks": objects,
-            "frsi_limit": {"type": ["object", "null"]},
-            "thermograms": {"type": "array", "items": {
-                "type": "object", "required": ["id"],
-                "properties": {"id": {"type": "string"},
-                               "figures": {"type": ["object", "null"],
-                                           "additionalProperties": text_or_null},
-                               "checks": objects}}},
-            "elements": objects,
-            "defects": objects,
-            "heat_loss": {"type": ["object", "null"]},
-            "heat_loss_after": {"type": ["object", "null"]},
-            "measures": {"type": ["array", "null"], "items": {"type": "object"}},
-            "package": {"type": ["object", "null"]},
-            "series": {"type": "array", "items": {
-                "type": "object", "properties": {"figure": text_or_null, "checks": objects}}},
-            "failures": objects,
-            "notes": {"type": "array", "items": {"type": "string"}},
-        },
-    }
+def _expected(error) -> str:
+    """What a schema keyword asked for, in words, without the value found (which may hold
+    bytes of a foreign file)."""
+    kw, want = error.validator, error.validator_value
+    if kw == "type":
+        return "a value of type " + (" or ".join(want) if isinstance(want, list) else str(want))
+    if kw == "required":
+        missing = [k for k in want if isinstance(error.instance, dict) and k not in error.instance]
+        return "the key " + ", ".join(json.dumps(k) for k in missing[:3])
+    if kw == "const":
+        return f"the value {json.dumps(want)}"
+    if kw == "enum":
+        return "one of " + ", ".join(json.dumps(x) for x in want)
+    if kw == "additionalProperties":
+        return "no other keys"
+    if kw in ("anyOf", "oneOf"):
+        return "one of the allowed forms"
+    return f"a value meeting '{kw}'"
 
 
-def load_schema_file(path: str | Path) -> dict:
-    """A JSON Schema file (such as ``envelope/schema/results.schema.json``) as a dict."""
-    return json.loads(Path(path).read_text(encoding="utf-8"))
+def validate(instance, file: str = "results.json") -> None:
+    """Raise `SurveyError` naming the first field of `instance` that the shipped results
+    schema (`envelope.results.schema`, JSON Schema draft 2020-12, checked by jsonschema)
+    refuses; the message names the field and what was expected, never the value."""
+    import jsonschema
 
-
-RESULTS_SCHEMA: dict = minimal_results_schema()
-# To check against the shipped schema file instead, this one line becomes:
-# RESULTS_SCHEMA = load_schema_file(Path(__file__).parent / "schema" / "results.schema.json")
-
-
-# --------------------------------------------------------------------------------------
-# a small JSON Schema validator (the keywords of draft 2020-12 that describe structure)
-# --------------------------------------------------------------------------------------
-
-_TYPES = {
-    "object": lambda v: isinstance(v, dict),
-    "array": lambda v: isinstance(v, list),
-    "string": lambda v: isinstance(v, str),
-    "boolean": lambda v: isinstance(v, bool),
-    "null": lambda v: v is None,
-    "number": lambda v: isinstance(v, int | float) and not isinstance(v, bool),
-    "integer": lambda v: (isinstance(v, int) and not isinstance(v, bool))
-    or (isinstance(v, float) and math.isfinite(v) and v.is_integer()),
-}
-
-
-def _where(path: str) -> str:
-    return path or "(top level)"
-
-
-def _resolve_ref(ref: str, root: dict) -> dict:
-    if not ref.startswith("#"):
-        raise ValueError(f"only local $ref are supported, not {ref!r}")
-    node = root
-    for part in [p for p in ref[1:].split("/") if p]:
-        node = node[part.replace("~1", "/").replace("~0", "~")]
-    return node
-
-
-def _errors(v, schema, root, path, depth):
-    """First structural error of `v` against `schema` as ``(path, expectation)``, or None."""
-    if depth > 64:
-        return path, "a shallower structure"
-    if schema is True or schema == {}:
-        return None
-    if schema is False:
-        return path, "nothing here"
-    if "$ref" in schema:
-        err = _errors(v, _resolve_ref(schema["$ref"], root), root, path, depth + 1)
-        if err:
-            return err
-    t = schema.get("type")
-    if t is not None:
-        types = [t] if isinstance(t, str) else list(t)
-        if not any(_TYPES[x](v) for x in types):
-            return path, " or ".join(types)
-    if "const" in schema and (v != schema["const"]
-                              or isinstance(v, bool) != isinstance(schema["const"], bool)):
-        return path, f"the value {json.dumps(schema['const'])}"
-    if "enum" in schema and v not in schema["enum"]:
-        return path, "one of " + ", ".join(json.dumps(x) for x in schema["enum"])
-    if isinstance(v, str):
-        if len(v) > schema.get("maxLength", math.inf) or len(v) < schema.get("minLength", 0):
-            return path, "a string of allowed length"
-        if "pattern" in schema and not re.search(schema["pattern"], v):
-            return path, "a string of the allowed form"
-    if _TYPES["number"](v):
-        if v < schema.get("minimum", -math.inf) or v > schema.get("maximum", math.inf) \
-                or v <= schema.get("exclusiveMinimum", -math.inf) \
-                or v >= schema.get("exclusiveMaximum", math.inf):
-            return path, "a number in the allowed range"
-    if isinstance(v, list):
-        if len(v) > schema.get("maxItems", math.inf) or len(v) < schema.get("minItems", 0):
-            return path, "a list of allowed length"
-        prefix = schema.get("prefixItems", [])
-        for i, item in enumerate(v):
-            sub = prefix[i] if i < len(prefix) else schema.get("items")
-            if sub is not None:
-                err = _errors(item, sub, root, f"{path}[{i}]", depth + 1)
-                if err:
-                    return err
-    if isinstance(v, dict):
-        for key in schema.get("required", []):
-            if key not in v:
-                return (f"{path}.{key}" if path else key), "this key (missing)"
-        props = schema.get("properties", {})
-        patterns = schema.get("patternProperties", {})
-        extra = schema.get("additionalProperties", True)
-        for key, item in v.items():
-            sub_path = f"{path}.{key}" if path else str(key)
-            matched = False
-            if key in props:
-                matched = True
-                err = _errors(item, props[key], root, sub_path, depth + 1)
-                if err:
-                    return err
-            for pat, sub in patterns.items():
-                if re.search(pat, key):
-                    matched = True
-                    err = _errors(item, sub, root, sub_path, depth + 1)
-                    if err:
-                        return err
-            if not matched and extra is not True:
-                err = _errors(item, extra, root, sub_path, depth + 1)
-                if err:
-                    return err
-    for sub in schema.get("allOf", []):
-        err = _errors(v, sub, root, path, depth + 1)
-        if err:
-            return err
-    if "anyOf" in schema and all(_errors(v, s, root, path, depth + 1) for s in schema["anyOf"]):
-        return path, "one of the allowed forms"
-    if "oneOf" in schema and sum(_errors(v, s, root, path, depth + 1) is None
-                                 for s in schema["oneOf"]) != 1:
-        return path, "exactly one of the allowed forms"
-    if "not" in schema and _errors(v, schema["not"], root, path, depth + 1) is None:
-        return path, "another form"
-    return None
-
-
-def validate(instance, schema: dict, file: str = "results.json") -> None:
-    """Raise `SurveyError` naming the first field of `instance` that `schema` refuses.
-
-    Supports the structural keywords of JSON Schema (``type``, ``const``, ``enum``,
-    ``required``, ``properties``, ``patternProperties``, ``additionalProperties``,
-    ``items``, ``prefixItems``, length and range limits, ``pattern``, ``allOf``/``anyOf``/
-    ``oneOf``/``not``, local ``$ref``); annotations and unknown keywords are ignored, as the
-    specification asks. The message names the field and what was expected, never the value.
-    """
-    err = _errors(instance, schema, schema, "", 0)
-    if err:
-        raise SurveyError(f"expected {err[1]}", file, _where(err[0]))
+    validator = jsonschema.Draft202012Validator(results_schema())
+    errors = sorted(validator.iter_errors(instance), key=lambda e: (len(e.path), list(map(str, e.path))))
+    if errors:
+        e = errors[0]
+        field = "".join(f"[{p}]" if isinstance(p, int) else f".{p}" for p in e.path).lstrip(".")
+        raise SurveyError(f"expected {_expected(e)}", file, field or "(top level)")
 
 
 # --------------------------------------------------------------------------------------
@@ -257,7 +112,7 @@ def read_results(out_dir: str | Path) -> dict:
         raise SurveyError(f"written for another results schema version; this envelope reads "
                           f"version {SCHEMA_VERSION}: run `envelope assess` again", name,
                           "schema_version")
-    validate(doc, RESULTS_SCHEMA, name)
+    validate(doc, name)
     return doc
 
 

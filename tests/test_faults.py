@@ -23,7 +23,6 @@ import pytest
 from conftest import SURVEY_TOML, outlines_geojson, write_survey
 from safety_support import DRAWS, cli, digest, error_line, names, shared_output
 
-import envelope.assess
 from envelope.cli import DRAWS_RANGE
 from envelope.errors import SurveyError
 from envelope.faults import terminal_json, terminal_text

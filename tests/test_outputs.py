@@ -507,7 +507,7 @@ def test_rerender_checks_the_structure_by_field(assessed, tmp_path):
     r["thermograms"][0]["figures"] = "SECRET"
     (out / "results.json").write_text(json.dumps(r))
     line = _rerender_refused(out, tmp_path)
-    assert "results.json: thermograms[0].figures: expected object or null" in line
+    assert "results.json: thermograms[0].figures: expected a value of type object" in line
     assert "SECRET" not in line
 
 
