@@ -126,8 +126,10 @@ def test_csv_and_tiff_pixels_read_like_npy(tmp_path):
     tifffile.imwrite(tmp_path / "a.tif", img, compression="zlib")
     np.testing.assert_allclose(load_pixels(tmp_path / "a.csv"), img, atol=1e-5)
     np.testing.assert_array_equal(load_pixels(tmp_path / "a.tif"), img)
-    (tmp_path / "b.csv").write_text("1,2,x\n")
-    with pytest.raises(SurveyError, match="line 1"):
+    rows = [",".join(["20.5"] * 10)] * 10
+    rows[4] = rows[4][:-4] + "x"
+    (tmp_path / "b.csv").write_text("\n".join(rows) + "\n")
+    with pytest.raises(SurveyError, match="line 5, value 10: not a number"):
         load_pixels(tmp_path / "b.csv")
 
 
