@@ -118,8 +118,9 @@ def read_grid(raw: bytes, name: str, decimal_hint: str | None = None) -> Grid:
     counts, trailing, first_bad = _fields(grid, lines_end, delim)
     if first_bad is not None:
         i, n_bad, n_ok = first_bad
-        raise SurveyError(f"line {start_line + i + 1}: {n_bad} values, but the lines above have "
-                          f"{n_ok}; every image row must have the same number of values", name)
+        raise SurveyError(f"line {start_line + i + 1}: {n_bad} values, but the first line of "
+                          f"the grid has {n_ok}; every image row must have the same number of "
+                          "values", name)
     values = _parse(grid, delim, decimal, start_line, lines_end, name)
     if trailing:
         if not np.isnan(values[:, -1]).all():  # pragma: no cover - counts make this impossible
@@ -191,11 +192,18 @@ def _split_header(raw: bytes, eol: bytes, name: str) -> tuple[bytes, int, int]:
             break
         if not data(i):
             continue
-        nxt = [j for j in range(i + 1, min(i + 4, len(lines))) if lines[j].strip()][:2]
-        if nxt and not all(data(j) for j in nxt):
+        nxt = [j for j in range(i + 1, min(i + 12, len(lines))) if lines[j].strip()][:5]
+        if nxt[:2] and not all(data(j) for j in nxt[:2]):
             continue
-        if len(nxt) == 2 and _ntok(lines[i]) != _ntok(lines[nxt[0]]) == _ntok(lines[nxt[1]]):
-            continue
+        counts = [_ntok(lines[j]) for j in nxt if data(j)]
+        if counts:
+            ref = max(set(counts), key=counts.count)
+            ni = _ntok(lines[i])
+            # a short numeric line (e.g. "160;120", the image size) or a row of column
+            # numbers one shorter than the rows below stays in the header; any other line
+            # of numbers starts the grid (and a wrong length there is an error, not skipped)
+            if 2 * ni <= ref or (ni == ref - 1 and _is_count_row(lines[i])):
+                continue
         return raw[: starts[i]], starts[i], i
     if not any(data(j) for j in range(min(len(lines), MAX_HEADER_LINES))):
         raise SurveyError("no line of numbers found; expected a grid of temperatures (one "
@@ -210,8 +218,25 @@ def _is_data_line(line: bytes) -> bool:
     return all(_CELL.match(c) for c in re.split(rb"[,;\t ]", line.strip()))
 
 
+def _is_count_row(line: bytes) -> bool:
+    """True for a line of whole numbers counting 0, 1, 2… or 1, 2, 3… (column numbers)."""
+    words = re.split(rb"[,;\t ]+", line.strip())
+    if len(words) < 8 or not all(w.isdigit() for w in words):
+        return False
+    first = int(words[0])
+    return first in (0, 1) and [int(w) for w in words] == list(range(first, first + len(words)))
+
+
 def _ntok(line: bytes) -> int:
-    return len([t for t in re.split(rb"[,;\t ]+", line.strip()) if t]) if line.strip() else 0
+    """Number of values on a line, by its most delimiter-like character."""
+    line = line.strip(b" \r\n")
+    for d in (b"\t", b";"):
+        if d in line:
+            return line.count(d) + 1
+    words = line.split()
+    if b"," in line and (len(words) == 1 or re.search(rb",\s|\s,|,,|,\Z", line)):
+        return line.count(b",") + 1
+    return len(words)
 
 
 def _decode_header(head: bytes, encoding: str) -> list[str]:
@@ -242,7 +267,9 @@ def _unquote(grid: bytes, name: str) -> tuple[bytes, bool]:
         if b";" in grid:
             raise SurveyError("quoted cells separated by ',' that also hold ';'; expected one "
                               "delimiter", name)
-        grid = grid.replace(b'","', b";")
+        grid = grid.replace(b'","', b'";"').replace(b'",\n', b'";\n').replace(b'",\r', b'";\r')
+        if grid.endswith(b'",'):
+            grid = grid[:-1] + b";"
     return grid.replace(b'"', b""), True
 
 
@@ -279,21 +306,24 @@ def _has_decimals(grid: bytes, decimal: str) -> bool:
 def _fields(grid: bytes, eol: bytes, delim: str):
     """Values per non-blank line, checked chunk by chunk with numpy.
 
-    Returns ``(count, trailing, first_bad)``: the common count, whether a delimiter ends every
-    line, and ``(line index, count, expected)`` of the first line that differs (else None).
+    Returns ``(count, trailing, first_bad)``: the common number of fields, whether a
+    delimiter ends every line (then the last, empty field is not a value), and
+    ``(line index, fields, expected)`` of the first line that differs (else None).
     """
     e = eol[0]
     d = ord(delim)
     n = len(grid)
     pos, line0 = 0, 0
-    expected = trailing_all = None
+    expected, all_trail = None, True
     while pos < n:
         end = min(pos + _CHUNK_BYTES, n)
         if end < n:
             k = grid.find(eol, end)
             end = n if k < 0 else k + 1
         b = np.frombuffer(grid, np.uint8, count=end - pos, offset=pos)
-        space = (b == 32) | (b == 9) | (b == 13) | (b == e)
+        space = (b == 32) | (b == 13) | (b == e)
+        if delim != "\t":
+            space |= b == 9
         ends = np.flatnonzero(b == e)
         if ends.size == 0 or ends[-1] != b.size - 1:
             ends = np.append(ends, b.size)
@@ -302,30 +332,24 @@ def _fields(grid: bytes, eol: bytes, delim: str):
         tok[1:] &= space[:-1]
         cs = np.concatenate(([0], np.cumsum(tok, dtype=np.int64)))
         ntok = cs[ends] - cs[starts]
+        keep = ntok > 0
         if delim == " ":
             nval = ntok
-            trail = np.zeros(ntok.shape, bool)
         else:
             cd = np.concatenate(([0], np.cumsum(b == d, dtype=np.int64)))
             nval = cd[ends] - cd[starts] + 1
-            last = _last_non_space(b, starts, ends, space)
-            trail = last == d
-        blank = (ntok == 0)
-        nval = np.where(trail, nval - 1, nval)
-        keep = ~blank
+            all_trail &= bool((_last_non_space(b, starts, ends, space)[keep] == d).all())
         if keep.any():
             if expected is None:
-                first = int(np.flatnonzero(keep)[0])
-                expected = int(nval[first])
-                trailing_all = bool(trail[first])
-            bad = keep & ((nval != expected) | (trail != trailing_all))
+                expected = int(nval[np.flatnonzero(keep)[0]])
+            bad = keep & (nval != expected)
             if bad.any():
                 i = int(np.flatnonzero(bad)[0])
-                return expected, trailing_all, (line0 + i, int(nval[i] + trail[i]),
-                                                expected + int(trailing_all))
+                return expected, False, (line0 + i, int(nval[i]), expected)
         line0 += ends.size
         pos = end
-    return expected or 0, bool(trailing_all), None
+    trailing = delim != " " and expected is not None and all_trail
+    return (expected or 0) - int(trailing), trailing, None
 
 
 def _last_non_space(b, starts, ends, space) -> np.ndarray:

@@ -212,10 +212,21 @@ def _tiff(path: Path, name: str, page_no: int | None):
             chosen = top[0]
             page = pages[chosen]
         _check_tiff_page(page, name)
+        if int(page.compression) != 1 and not _have_imagecodecs():
+            raise SurveyError("a compressed TIFF needs the 'imagecodecs' package to be decoded "
+                              "within bounded memory (pip install imagecodecs)", name)
         values = page.asarray(maxworkers=1)
     dtype = np.dtype(values.dtype)
     dialect = f"TIFF page {chosen} of {len(pages)}: {values.shape[-1]} × {values.shape[0]} px {dtype}"
     return values, dtype.kind in "iu", dialect
+
+
+def _have_imagecodecs() -> bool:
+    try:
+        import imagecodecs  # noqa: F401
+    except ImportError:
+        return False
+    return True
 
 
 def _npix(page) -> int:
@@ -272,7 +283,7 @@ def _npy(path: Path, name: str):
     try:
         data = np.load(path, allow_pickle=False, mmap_mode="r")
     except ValueError as exc:
-        if "pickle" in str(exc).lower():
+        if "pickle" in str(exc).lower() or "object" in str(exc).lower():
             raise SurveyError("the .npy file holds Python objects (pickled); expected an array "
                               "of numbers", name) from None
         raise
