@@ -28,7 +28,7 @@ import numpy as np
 from .errors import SurveyError
 
 __all__ = [
-    "Export", "read_export", "load_pixels", "load_air_log", "MAX_PIXELS", "MAX_FILE_BYTES",
+    "Export", "DeclarationNeeded", "read_export", "load_pixels", "load_air_log", "MAX_PIXELS", "MAX_FILE_BYTES",
     "MAX_TIFF_PAGES", "KELVIN_SUSPECT_C", "PLAUSIBLE_C", "MAX_INVALID_SHARE", "TEXT_SUFFIXES",
     "IMAGE_SUFFIXES",
 ]
@@ -50,6 +50,15 @@ MAX_INVALID_SHARE = 0.5
 TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".asc")
 IMAGE_SUFFIXES = (".tif", ".tiff", ".png", ".npy")
 _EXPORT_TABLE = "this thermogram's [thermograms.export] table"
+
+
+class DeclarationNeeded(SurveyError):
+    """The file is readable once the survey declares how: ``keys`` of ``[thermograms.export]``
+    to set (e.g. ``scale`` and ``unit`` for raw counts, ``page`` for a stack of pages)."""
+
+    def __init__(self, message: str, file: str | None = None, keys: tuple[str, ...] = ()):
+        super().__init__(message, file)
+        self.keys = tuple(keys)
 
 
 @dataclass(frozen=True)
@@ -207,8 +216,8 @@ def _tiff(path: Path, name: str, page_no: int | None):
             big = max(_npix(p) for _, p in data)
             top = [i for i, p in data if _npix(p) == big]
             if len(top) > 1:
-                raise SurveyError(f"pages {', '.join(map(str, top))} hold images of the same size;"
-                                  f" set `page = N` (0-based) in {_EXPORT_TABLE}", name)
+                raise DeclarationNeeded(f"pages {', '.join(map(str, top))} hold images of the same size;"
+                                  f" set `page = N` (0-based) in {_EXPORT_TABLE}", name, ("page",))
             chosen = top[0]
             page = pages[chosen]
         _check_tiff_page(page, name)
@@ -327,9 +336,10 @@ def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.nda
     v = np.squeeze(np.asarray(values))
     if integer and scale is None:
         med = float(np.median(v)) if v.size else math.nan
-        raise SurveyError(f"integer pixel values ({v.dtype}) are raw counts: declare how they "
-                          f"map to temperatures with `scale` and `offset` (reading = value × scale "
-                          f"+ offset) and `unit` in {_EXPORT_TABLE}{_hint(med)}", name)
+        raise DeclarationNeeded(f"integer pixel values ({v.dtype}) are raw counts: declare how "
+                                f"they map to temperatures with `scale` and `offset` (reading = "
+                                f"value × scale + offset) and `unit` in {_EXPORT_TABLE}"
+                                f"{_hint(med)}", name, ("scale", "offset", "unit"))
     if scale is not None:
         x = v.astype(np.float64) * float(scale) + float(offset)
     elif offset:
@@ -351,9 +361,10 @@ def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.nda
     med = float(np.nanmedian(img))
     if med > KELVIN_SUSPECT_C and unit is None:
         if scale is None:
-            raise SurveyError(f"median reading {med:.6g} looks like kelvin or raw counts: "
-                              f"declare the unit (`unit = \"K\"` in {_EXPORT_TABLE} for kelvin; "
-                              f"the readings are then converted to °C){_hint(med)}", name)
+            raise DeclarationNeeded(f"median reading {med:.6g} looks like kelvin or raw counts: "
+                                    f"declare the unit (`unit = \"K\"` in {_EXPORT_TABLE} for "
+                                    f"kelvin; the readings are then converted to °C){_hint(med)}",
+                                    name, ("unit",))
         raise SurveyError(f"median reading {med:.6g} after scale and offset: declare `unit` "
                           f"(\"K\" for kelvin) in {_EXPORT_TABLE}", name)
     lo, hi = float(np.nanmin(img)), float(np.nanmax(img))
