@@ -382,27 +382,42 @@ def outline(
     thermogram: Annotated[str, typer.Argument(help="Id of the thermogram to draw on.")],
     outlines: Annotated[Path | None, typer.Option("--file", help="GeoJSON to write (default: the thermogram's outlines file).")] = None,
 ):
-    """Draw element outlines and reference zones on a corrected thermogram (opens a window)."""
-    from .assess import _correct
+    """Draw element outlines and reference zones on a thermogram and pick its scale (opens a
+    window; works on a survey that still has keys to fill in)."""
+    import math
+
     from .editor import run_editor
-    from .survey import load_pixels
+    from .loader import load
+    from .readers import load_pixels
 
     try:
-        s = _load(survey)
+        s = load(survey, incomplete=True)
         try:
-            tg = s.thermogram(thermogram)
-        except KeyError:
-            raise SurveyError(f"no thermogram '{thermogram}'; ids: {', '.join(t.id for t in s.thermograms)}",
-                              s.file.name, "thermograms.id") from None
-        import numpy as np
+            index, tg = next((i, t) for i, t in enumerate(s.thermograms) if t.id == thermogram)
+        except StopIteration:
+            raise SurveyError(f"no thermogram '{_plain(thermogram)[:64]}'; ids: "
+                              f"{', '.join(t.id for t in s.thermograms)}", s.file.name, "thermograms.id") from None
+        if tg.file is None:
+            raise SurveyError("set the thermogram's file first", s.file.name, f"thermograms[{index}].file")
+        target = outlines or tg.outlines or (s.root / "outlines" / f"{tg.id}.geojson")
+        img = load_pixels(tg.file, str(tg.file.relative_to(s.root)), tg.export)
+        ready = not any(k.startswith(("conditions.", f"thermograms[{index}].")) for k in s.todo)
+        note = "corrected surface temperatures"
+        if ready and not math.isnan(tg.reflected_c):
+            import numpy as np
 
-        img = load_pixels(tg.file, str(tg.file.relative_to(s.root)))
-        eps = np.full(img.shape, tg.emissivity_default or 0.93, np.float32)
-        obj = _correct(s, tg, img, eps)[0]
+            from .assess import _correct
+
+            eps = np.full(img.shape, tg.emissivity_default or 0.93, np.float32)
+            img = _correct(s, tg, img, eps)[0]
+        else:
+            note = "readings as exported (fill in the survey's conditions for corrected temperatures)"
     except SurveyError as exc:
         _fail(exc)
     try:
-        run_editor(obj, outlines or tg.outlines, element_names=tuple(s.elements), title=tg.id)
+        run_editor(img, target, element_names=tuple(s.elements), title=tg.id,
+                   view_elements=tg.elements or None, survey_file=s.file, thermogram_id=tg.id,
+                   note=note)
     except RuntimeError as exc:  # no interactive matplotlib backend (no display)
         _fail(SurveyError(f"cannot open a window here ({exc}); run on a machine with a display"))
 
