@@ -69,8 +69,10 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title="", view_
     fig = plt.figure(figsize=(11.0, 6.5))
     _disconnect_default_keys(fig)
     ax = fig.add_axes((0.07, 0.12, 0.58, 0.78))
+    # extent: pixel [row, col] spans x in [col, col + 1], y in [row, row + 1], as in the
+    # outline files (its centre is at (col + 0.5, row + 0.5))
     im = ax.imshow(img, cmap="inferno", vmin=lo, vmax=hi if hi > lo else lo + 1,
-                   interpolation="nearest")
+                   interpolation="nearest", extent=(0, img.shape[1], img.shape[0], 0))
     fig.colorbar(im, ax=ax, fraction=0.046, pad=0.03).set_label("Surface temperature [°C]")
     ax.set_title(_plain(title or f"outlines: {path.name}"), fontsize=10)
     ax.set_xlabel("x [px]")
