@@ -52,6 +52,7 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title="", view_
         ``handlers`` holds the connected callbacks (``"press"``, ``"motion"``,
         ``"release"``, ``"key"``, ``"name"``), the ``"textbox"`` widget and ``"redraw"``.
     """
+    import matplotlib.patheffects as pe
     import matplotlib.pyplot as plt
     from matplotlib.widgets import TextBox
 
@@ -89,6 +90,7 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title="", view_
         fig.text(0.05, 0.925, _plain(note), fontsize=8, color="dimgray")
     artists: list = []
     state = {"confirm_overwrite": False}
+    halo = [pe.withStroke(linewidth=3.2, foreground="black")]  # readable on any colour
 
     def redraw():
         for a in artists:
@@ -100,12 +102,14 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title="", view_
                 v = np.vstack([v, v[:1]])
             ls = "--" if poly["role"] == "reference" else "-"
             colour = "cyan" if i == editor.current else "white"
-            (line,) = ax.plot(v[:, 0], v[:, 1], ls, color=colour, lw=1.4, marker="o", ms=3)
+            (line,) = ax.plot(v[:, 0], v[:, 1], ls, color=colour, lw=1.4, marker="o", ms=3,
+                              path_effects=halo)
             artists.append(line)
             if poly["element"] and len(v):
-                cx, cy = v.mean(axis=0)
+                cx, cy = v[:-1].mean(axis=0) if poly["closed"] else v.mean(axis=0)
                 artists.append(ax.text(cx, cy, _plain(f"{poly['element']} ({poly['role']})"),
-                                       color=colour, fontsize=8, ha="center", va="center"))
+                                       color=colour, fontsize=8, ha="center", va="center",
+                                       path_effects=halo))
         pts = list(editor.scale_points)
         if editor.scale is not None and editor.mode == "outline":
             table, vals = editor.scale
@@ -113,7 +117,7 @@ def build_editor_figure(image_c, geojson_path, element_names=(), title="", view_
         if pts:
             p = np.asarray(pts, dtype=float).reshape(-1, 2)
             artists.extend(ax.plot(p[:, 0], p[:, 1], "+", color="lime", ms=12, mew=2,
-                                   ls="-" if len(p) == 2 else "none", lw=1))
+                                   ls="-" if len(p) == 2 else "none", lw=1, path_effects=halo))
         if editor.selected is not None:
             i, j = editor.selected
             x, y = editor.polygons[i]["vertices"][j]
