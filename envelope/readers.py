@@ -293,8 +293,8 @@ def _npy(path: Path, name: str):
         data = np.load(path, allow_pickle=False, mmap_mode="r")
     except ValueError as exc:
         if "pickle" in str(exc).lower() or "object" in str(exc).lower():
-            raise SurveyError("the .npy file holds Python objects (pickled); expected an array "
-                              "of numbers", name) from None
+            raise SurveyError("the .npy file holds Python objects (pickled); expected an array of pixel "
+                              "values (numbers)", name) from None
         raise
     if not isinstance(data, np.ndarray):
         raise SurveyError("expected one array (.npy), not an archive", name)
