@@ -186,6 +186,8 @@ def init(
     site: Annotated[str | None, typer.Option("--site", help="Site name of a new survey.")] = None,
     indoor_air_c: Annotated[float | None, typer.Option("--indoor-air-c", help="Indoor air temperature on the night [°C].")] = None,
     outdoor_air_c: Annotated[float | None, typer.Option("--outdoor-air-c", help="Outdoor air temperature on the night [°C].")] = None,
+    export_emissivity: Annotated[float | None, typer.Option("--export-emissivity", min=0.05, max=1.0, help="Emissivity the camera used for exports whose header does not say.")] = None,
+    export_reflected_c: Annotated[float | None, typer.Option("--export-reflected-c", min=-60.0, max=200.0, help="Reflected temperature [°C] the camera used for exports whose header does not say.")] = None,
     quiet: QuietOpt = False,
 ):
     """Start a survey from a folder of camera exports: reads and checks each export, copies it
@@ -202,7 +204,8 @@ def init(
                 raise SurveyError(f"expected a temperature in [-50, 45] °C, got {v:g}", None, name)
         els = [parse_element_option(e) for e in element or []]
         views = [parse_view_option(v) for v in view or []]
-        rep = init_survey(survey, exports, els, views, side, site, indoor_air_c, outdoor_air_c)
+        rep = init_survey(survey, exports, els, views, side, site, indoor_air_c, outdoor_air_c,
+                          {"emissivity": export_emissivity, "reflected_c": export_reflected_c})
     except SurveyError as exc:
         _fail(exc)
     except OSError as exc:

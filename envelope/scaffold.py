@@ -108,7 +108,7 @@ def _check_folders(survey: Path, exports: Path) -> None:
 
 
 def init_survey(survey_dir, exports_dir, elements=(), views=(), side=None, site=None,
-                indoor_air_c=None, outdoor_air_c=None) -> InitReport:
+                indoor_air_c=None, outdoor_air_c=None, export_defaults=None) -> InitReport:
     """Create or extend a survey folder from a folder of camera exports.
 
     Parameters
@@ -125,6 +125,9 @@ def init_survey(survey_dir, exports_dir, elements=(), views=(), side=None, site=
         Site name of a new survey (else a placeholder).
     indoor_air_c, outdoor_air_c : float, optional
         Air temperatures on the night [°C] of a new survey (else placeholders).
+    export_defaults : dict, optional
+        ``emissivity`` / ``reflected_c`` the camera used, for exports whose header does not
+        say (else placeholders).
 
     Returns
     -------
@@ -211,7 +214,7 @@ def init_survey(survey_dir, exports_dir, elements=(), views=(), side=None, site=
             with open(outl, "x", encoding="utf-8") as fh:
                 fh.write(json.dumps({"type": "FeatureCollection", "features": []}) + "\n")
         blocks.append(_thermogram_block(tid, p, dest.relative_to(survey), ex, pending, note,
-                                        side, elements_of))
+                                        side, elements_of, export_defaults or {}))
     if existing is None:
         write_atomic(toml, "\n\n".join(b.strip("\n") for b in blocks) + "\n")
     elif blocks:
@@ -278,7 +281,8 @@ def _element_block(name, kind, host) -> str:
     return "\n".join(lines)
 
 
-def _thermogram_block(tid, src: Path, rel: Path, ex, pending, note, side, elements_of) -> str:
+def _thermogram_block(tid, src: Path, rel: Path, ex, pending, note, side, elements_of,
+                      defaults) -> str:
     s = ex.settings if ex is not None else {}
     lines = [
         "[[thermograms]]",
@@ -306,6 +310,8 @@ def _thermogram_block(tid, src: Path, rel: Path, ex, pending, note, side, elemen
                          ("reflected_c", "[°C] the reflected temperature set in the camera")):
         if key in s:
             lines.append(_line(key, toml_value(s[key]), "from the export's header"))
+        elif defaults.get(key) is not None:
+            lines.append(_line(key, toml_value(float(defaults[key])), "given to envelope init"))
         else:
             lines.append(_line(key, _FILL, comment))
     for key in ("transmittance", "atmosphere_c"):
