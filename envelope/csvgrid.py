@@ -115,13 +115,13 @@ def read_grid(raw: bytes, name: str, decimal_hint: str | None = None) -> Grid:
             "commas ('13,70' as 13.70) the values cannot be told apart; re-export with ';' or "
             "tab between values. If the values really are whole numbers (raw counts), export "
             "with another delimiter or set `scale` in [thermograms.export]", name)
-    counts, trailing, first_bad = _fields(grid, lines_end, delim)
+    nfields, trailing, first_bad, nrows = _fields(grid, lines_end, delim)
     if first_bad is not None:
         i, n_bad, n_ok = first_bad
         raise SurveyError(f"line {start_line + i + 1}: {n_bad} values, but the first line of "
                           f"the grid has {n_ok}; every image row must have the same number of "
                           "values", name)
-    values = _parse(grid, delim, decimal, start_line, lines_end, name)
+    values = _parse(grid, delim, decimal, start_line, lines_end, name, nrows, nfields)
     if trailing:
         if not np.isnan(values[:, -1]).all():  # pragma: no cover - counts make this impossible
             raise SurveyError("a delimiter ends every line but the last column is not empty", name)
@@ -306,15 +306,16 @@ def _has_decimals(grid: bytes, decimal: str) -> bool:
 def _fields(grid: bytes, eol: bytes, delim: str):
     """Values per non-blank line, checked chunk by chunk with numpy.
 
-    Returns ``(count, trailing, first_bad)``: the common number of fields, whether a
-    delimiter ends every line (then the last, empty field is not a value), and
-    ``(line index, fields, expected)`` of the first line that differs (else None).
+    Returns ``(fields, trailing, first_bad, rows)``: the common number of fields per line
+    (a trailing delimiter's empty field included), whether a delimiter ends every line (then
+    that last, empty field is not a value), ``(line index, fields, expected)`` of the first
+    line that differs (else None), and the number of non-blank lines.
     """
     e = eol[0]
     d = ord(delim)
     n = len(grid)
     pos, line0 = 0, 0
-    expected, all_trail = None, True
+    expected, all_trail, nrows = None, True, 0
     while pos < n:
         end = min(pos + _CHUNK_BYTES, n)
         if end < n:
@@ -333,6 +334,7 @@ def _fields(grid: bytes, eol: bytes, delim: str):
         cs = np.concatenate(([0], np.cumsum(tok, dtype=np.int64)))
         ntok = cs[ends] - cs[starts]
         keep = ntok > 0
+        nrows += int(keep.sum())
         if delim == " ":
             nval = ntok
         else:
@@ -345,11 +347,11 @@ def _fields(grid: bytes, eol: bytes, delim: str):
             bad = keep & (nval != expected)
             if bad.any():
                 i = int(np.flatnonzero(bad)[0])
-                return expected, False, (line0 + i, int(nval[i]), expected)
+                return expected, False, (line0 + i, int(nval[i]), expected), nrows
         line0 += ends.size
         pos = end
     trailing = delim != " " and expected is not None and all_trail
-    return (expected or 0) - int(trailing), trailing, None
+    return expected or 0, trailing, None, nrows
 
 
 def _last_non_space(b, starts, ends, space) -> np.ndarray:
@@ -364,22 +366,42 @@ def _last_non_space(b, starts, ends, space) -> np.ndarray:
     return np.where(ok, b[pos], 0).astype(np.uint8)
 
 
-def _parse(grid: bytes, delim: str, decimal: str, start_line: int, eol: bytes, name: str):
+def _parse(grid: bytes, delim: str, decimal: str, start_line: int, eol: bytes, name: str,
+           nrows: int, nfields: int) -> np.ndarray:
+    """Parse the grid with pandas' C parser, a block of rows at a time into one array (the
+    peak memory stays near the size of the result)."""
     import pandas as pd
 
+    from .readers import MAX_PIXELS
+
+    if nrows * nfields > MAX_PIXELS * 1.01 + nrows:
+        raise SurveyError(f"a grid of {nrows} × {nfields} values exceeds {MAX_PIXELS} pixels", name)
+    out = np.empty((nrows, nfields), dtype=np.float64)
+    block = max(1, (1 << 20) // max(nfields, 1))
+    r = 0
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            df = pd.read_csv(io.BytesIO(grid), sep=r"\s+" if delim == " " else delim,
-                             decimal=decimal, header=None, dtype=np.float64, engine="c",
-                             keep_default_na=False, na_values=_NA, skipinitialspace=True,
-                             quoting=3, skip_blank_lines=True, encoding="ascii")
+            reader = pd.read_csv(io.BytesIO(grid), sep=r"\s+" if delim == " " else delim,
+                                 decimal=decimal, header=None, names=range(nfields),
+                                 dtype=np.float64, engine="c", keep_default_na=False,
+                                 na_values=_NA, skipinitialspace=True, quoting=3,
+                                 skip_blank_lines=True, encoding="ascii", chunksize=block)
+            with reader:
+                for df in reader:
+                    k = len(df)
+                    if r + k > nrows:
+                        raise ValueError("more rows than counted")
+                    out[r:r + k] = df.to_numpy(dtype=np.float64)
+                    r += k
     except (ValueError, pd.errors.ParserError, OverflowError, MemoryError):
         line, col = _locate_bad(grid, delim, decimal, eol)
         raise SurveyError(f"line {start_line + line + 1}, value {col + 1}: not a number; "
                           f"expected numbers separated by {_dname(delim)} with '{decimal}' "
                           "as decimal mark (empty or 'nan' for an invalid pixel)", name) from None
-    return df.to_numpy(dtype=np.float64)
+    if r != nrows:  # pragma: no cover - the counts and the parser agree on blank lines
+        raise SurveyError(f"read {r} rows, expected {nrows}", name)
+    return out
 
 
 def _dname(delim: str) -> str:
