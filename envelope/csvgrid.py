@@ -68,7 +68,7 @@ class Grid:
     dialect: str = ""
 
 
-def read_grid(raw: bytes, name: str, decimal_hint: str | None = None) -> Grid:
+def read_grid(raw: bytes, name: str) -> Grid:
     """Parse the bytes of a text export into a grid of numbers.
 
     Parameters
@@ -77,9 +77,6 @@ def read_grid(raw: bytes, name: str, decimal_hint: str | None = None) -> Grid:
         The whole file.
     name : str
         File name used in error messages.
-    decimal_hint : {".", ","}, optional
-        Decimal mark taken from the header (e.g. a ``decimal: ,`` line); checked against the
-        cells, never used to override them.
 
     Returns
     -------
@@ -105,9 +102,6 @@ def read_grid(raw: bytes, name: str, decimal_hint: str | None = None) -> Grid:
                           name)
     grid, quoted = _unquote(grid, name)
     delim, decimal = _dialect(grid, name)
-    if decimal_hint and decimal_hint != decimal and _has_decimals(grid, decimal):
-        raise SurveyError(f"the header declares the decimal mark '{decimal_hint}' but the cells "
-                          f"use '{decimal}'", name)
     whole = not _has_decimals(grid, decimal)
     if whole and delim == ",":
         raise SurveyError(
