@@ -205,63 +205,135 @@ def inspect(
     materials: Annotated[bool, typer.Option("--materials", help="Also list the emissivity table with sources.")] = False,
     json_out: Annotated[bool, typer.Option("--json", help="Print what was found as JSON.")] = False,
 ):
-    """Load and validate a survey (TOML, pixel files, outlines) and print what it holds."""
-    import numpy as np
-
-    from . import geometry
-    from .survey import load_pixels
+    """Check a survey as `assess` would (TOML, pixel files, outlines, scales) and list what it
+    holds and what is still needed before `assess`. Exit 0: loads (the list may still hold
+    keys to fill in); 2: something `assess` would refuse."""
+    from .checklist import survey_checklist
 
     try:
-        s = _load(survey)
-        thermos = []
-        for t in s.thermograms:
-            img = load_pixels(t.file, str(t.file.relative_to(s.root)))
-            outl = geometry.read_outlines(t.outlines, img.shape, tuple(s.elements))
-            thermos.append({"id": t.id, "side": t.side, "shape_px": list(img.shape),
-                            "elements": sorted({o.element for o in outl if o.role == "element"}),
-                            "reference_zones": sorted({o.element for o in outl if o.role == "reference"}),
-                            "reading_range_c": [round(float(np.nanmin(img)), 2),
-                                                round(float(np.nanmax(img)), 2)]})
+        cl = survey_checklist(survey)
     except SurveyError as exc:
         _fail(exc)
-    from .assess import survey_checks
+    s = cl.survey
+    checks = []
+    if not any(k.startswith("conditions.") for k in s.todo):
+        from .assess import survey_checks
 
-    checks = survey_checks(s.conditions)
+        checks = survey_checks(s.conditions)
     info = {"site": s.site.name, "date": s.date,
             "elements": [{"name": e.name, "kind": e.kind, "u_specified_w_m2k": e.u_specified_w_m2k}
                          for e in s.elements.values()],
-            "thermograms": thermos, "series": [sr.id for sr in s.series],
+            "thermograms": cl.views, "series": [sr.id for sr in s.series],
             "pressure_pairs": [[p.baseline, p.depressurised, p.pressure_difference_pa] for p in s.pressure_pairs],
             "measures": [m.name for m in s.measures],
-            "checks": [{"name": c.name, "status": c.status, "rule": c.rule} for c in checks]}
+            "checks": [{"name": c.name, "status": c.status, "rule": c.rule} for c in checks],
+            "problems": cl.problems, "still_needed": cl.todo, "notes": cl.notes, "ready": cl.ready}
     if json_out:
         typer.echo(json.dumps(info, indent=2, ensure_ascii=False))
+        if cl.problems:
+            raise typer.Exit(EXIT_USER_ERROR)
         return
     c = s.conditions
-    typer.echo(f"Survey: {s.site.name}, {s.site.town}  {s.date}   indoor {c.indoor_air_c:.1f} °C, "
-               f"outdoor {c.outdoor_air_c:.1f} °C, wind {c.wind_m_s:.1f} m/s")
+    air = ("" if any(k.startswith("conditions.") for k in s.todo) else
+           f"   indoor {c.indoor_air_c:.1f} °C, outdoor {c.outdoor_air_c:.1f} °C, wind {c.wind_m_s:.1f} m/s")
+    typer.echo(f"Survey: {_plain(s.site.name) or '(site name still to fill in)'}"
+               f"{', ' + _plain(s.site.town) if s.site.town else ''}  {_plain(s.date)}{air}")
     typer.echo(f"{len(s.elements)} elements:")
     for e in s.elements.values():
         spec = f"  specified U {e.u_specified_w_m2k:.2f} W/(m²·K)" if e.u_specified_w_m2k else ""
         typer.echo(f"  {e.name:<28} {e.kind:<8}{spec}")
-    typer.echo(f"{len(thermos)} thermograms:")
-    for t in thermos:
-        typer.echo(f"  {t['id']:<28} {t['side']:<9} {t['shape_px'][1]}×{t['shape_px'][0]} px  "
-                   f"{t['reading_range_c'][0]:.1f}…{t['reading_range_c'][1]:.1f} °C  "
-                   f"elements: {', '.join(t['elements'])}")
+    typer.echo(f"{len(cl.views)} thermograms:")
+    for t in cl.views:
+        size = (f"{t['shape_px'][1]}×{t['shape_px'][0]} px  {t['reading_range_c'][0]:.1f}…"
+                f"{t['reading_range_c'][1]:.1f} °C" if t["shape_px"] else "(pixels not read)")
+        typer.echo(f"  {t['id']:<28} {t['side'] or '?':<9} {size}  elements: "
+                   f"{', '.join(t['elements']) or '-'}")
     if s.series:
         typer.echo("series: " + ", ".join(info["series"]))
     for p in s.pressure_pairs:
         typer.echo(f"pressure pair: {p.baseline} / {p.depressurised} at {p.pressure_difference_pa:g} Pa")
-    typer.echo("validity of the night:")
-    for ch in checks:
-        typer.echo(f"  [{ch.status:^5}] {ch.name}: {ch.rule}")
+    if checks:
+        typer.echo("validity of the night:")
+        for ch in checks:
+            typer.echo(f"  [{ch.status:^5}] {ch.name}: {ch.rule}")
     if materials:
         from .radiometry import MATERIALS
 
         typer.echo("emissivity table:")
         for key, m in MATERIALS.items():
             typer.echo(f"  {key:<32} {m.emissivity:.2f}  {m.source}")
+    for n in cl.notes:
+        typer.echo(f"note: {_plain(n)}")
+    if cl.problems:
+        typer.echo(f"Problems that `assess` would refuse ({len(cl.problems)}):")
+        for p in cl.problems:
+            typer.echo(f"  - {_plain(p)}")
+    if cl.todo:
+        typer.echo(f"Still needed before `envelope assess` ({len(cl.todo)}):")
+        for t in cl.todo:
+            typer.echo(f"  - {_plain(t)}")
+    elif not cl.problems:
+        typer.echo("Ready for `envelope assess`.")
+    if cl.problems:
+        typer.echo(f"envelope: error: {len(cl.problems)} problem{'s' if len(cl.problems) > 1 else ''} "
+                   f"that `assess` would refuse (listed above); first: {_plain(cl.problems[0])}", err=True)
+        raise typer.Exit(EXIT_USER_ERROR)
+
+
+def _plain(text) -> str:
+    """Text for the terminal: control characters replaced."""
+    return "".join(ch if ch.isprintable() else "?" for ch in str(text))
+
+
+@app.command()
+def init(
+    survey: Annotated[Path, typer.Argument(help="Survey folder to create (or extend with new exports).")],
+    exports: Annotated[Path, typer.Option("--from", help="Folder of camera exports (read only: never written to).")],
+    element: Annotated[list[str] | None, typer.Option("--element", help="Declare an element: NAME:KIND or NAME:KIND:HOST (repeatable).")] = None,
+    view: Annotated[list[str] | None, typer.Option("--view", help="Elements a view shows: EXPORT=ELEMENT,ELEMENT (repeatable).")] = None,
+    side: Annotated[str | None, typer.Option("--side", help="Side of the new thermograms: interior or exterior.")] = None,
+    site: Annotated[str | None, typer.Option("--site", help="Site name of a new survey.")] = None,
+    indoor_air_c: Annotated[float | None, typer.Option("--indoor-air-c", help="Indoor air temperature on the night [°C].")] = None,
+    outdoor_air_c: Annotated[float | None, typer.Option("--outdoor-air-c", help="Outdoor air temperature on the night [°C].")] = None,
+    export_emissivity: Annotated[float | None, typer.Option("--export-emissivity", min=0.05, max=1.0, help="Emissivity the camera used for exports whose header does not say.")] = None,
+    export_reflected_c: Annotated[float | None, typer.Option("--export-reflected-c", min=-60.0, max=200.0, help="Reflected temperature [°C] the camera used for exports whose header does not say.")] = None,
+    quiet: QuietOpt = False,
+):
+    """Start a survey from a folder of camera exports: reads and checks each export, copies it
+    into SURVEY/thermograms, writes empty outline files and a survey.toml with every required
+    key (from the exports' headers and the options, the rest as "fill in" placeholders). Run
+    again with new exports: they are added; nothing already in survey.toml is changed."""
+    from .scaffold import init_survey, parse_element_option, parse_view_option
+
+    try:
+        if side is not None and side not in ("interior", "exterior"):
+            raise SurveyError(f"expected interior or exterior, got '{side[:20]}'", None, "--side")
+        for name, v in (("--indoor-air-c", indoor_air_c), ("--outdoor-air-c", outdoor_air_c)):
+            if v is not None and not -50.0 <= v <= 45.0:
+                raise SurveyError(f"expected a temperature in [-50, 45] °C, got {v:g}", None, name)
+        els = [parse_element_option(e) for e in element or []]
+        views = [parse_view_option(v) for v in view or []]
+        rep = init_survey(survey, exports, els, views, side, site, indoor_air_c, outdoor_air_c,
+                          {"emissivity": export_emissivity, "reflected_c": export_reflected_c})
+    except SurveyError as exc:
+        _fail(exc)
+    except OSError as exc:
+        _fail(SurveyError(f"cannot write ({exc.strerror or type(exc).__name__}); check the "
+                          "folder's permissions and free space", str(getattr(exc, "filename", None) or survey)))
+    if not quiet:
+        typer.echo(f"{'wrote' if rep.created else 'extended'} {rep.survey_file}")
+        for tid, name, how in rep.added:
+            typer.echo(f"  added {tid:<24} from {_plain(name)}: {_plain(how)[:160]}")
+        for name, tid in rep.already:
+            typer.echo(f"  already in the survey: {_plain(name)} (thermogram {tid})")
+        for name in rep.elements_added:
+            typer.echo(f"  element {name}")
+        for name, why in rep.refused:
+            typer.echo(f"  REFUSED {_plain(name)}: {_plain(why)}", err=True)
+        typer.echo(f"next: fill in what `envelope inspect {survey}` lists, then draw the outlines "
+                   f"with `envelope outline {survey} ID`")
+    if rep.refused:
+        raise typer.Exit(EXIT_PARTIAL)
 
 
 @app.command()
@@ -419,27 +491,41 @@ def outline(
     thermogram: Annotated[str, typer.Argument(help="Id of the thermogram to draw on.")],
     outlines: Annotated[Path | None, typer.Option("--file", help="GeoJSON to write (default: the thermogram's outlines file).")] = None,
 ):
-    """Draw element outlines and reference zones on a corrected thermogram (opens a window)."""
+    """Draw element outlines and reference zones on a thermogram and pick its scale (opens a
+    window; works on a survey that still has keys to fill in)."""
+    import math
+
     from .editor import run_editor
+    from .loader import load
+    from .readers import load_pixels
     from .stages.correct import correct_image
-    from .survey import load_pixels
 
     try:
-        s = _load(survey)
+        s = load(survey, incomplete=True)
         try:
-            tg = s.thermogram(thermogram)
-        except KeyError:
-            raise SurveyError(f"no thermogram '{thermogram}'; ids: {', '.join(t.id for t in s.thermograms)}",
-                              s.file.name, "thermograms.id") from None
-        import numpy as np
+            index, tg = next((i, t) for i, t in enumerate(s.thermograms) if t.id == thermogram)
+        except StopIteration:
+            raise SurveyError(f"no thermogram '{_plain(thermogram)[:64]}'; ids: "
+                              f"{', '.join(t.id for t in s.thermograms)}", s.file.name, "thermograms.id") from None
+        if tg.file is None:
+            raise SurveyError("set the thermogram's file first", s.file.name, f"thermograms[{index}].file")
+        target = outlines or tg.outlines or (s.root / "outlines" / f"{tg.id}.geojson")
+        img = load_pixels(tg.file, str(tg.file.relative_to(s.root)), tg.export)
+        ready = not any(k.startswith(("conditions.", f"thermograms[{index}].")) for k in s.todo)
+        note = "corrected surface temperatures"
+        if ready and not math.isnan(tg.reflected_c):
+            import numpy as np
 
-        img = load_pixels(tg.file, str(tg.file.relative_to(s.root)))
-        eps = np.full(img.shape, tg.emissivity_default or 0.93, np.float32)
-        obj = correct_image(img, tg, s.camera, s.conditions, eps, s.file.name)[0]
+            eps = np.full(img.shape, tg.emissivity_default or 0.93, np.float32)
+            img = correct_image(img, tg, s.camera, s.conditions, eps, s.file.name)[0]
+        else:
+            note = "readings as exported (fill in the survey's conditions for corrected temperatures)"
     except SurveyError as exc:
         _fail(exc)
     try:
-        run_editor(obj, outlines or tg.outlines, element_names=tuple(s.elements), title=tg.id)
+        run_editor(img, target, element_names=tuple(s.elements), title=tg.id,
+                   view_elements=tg.elements or None, survey_file=s.file, thermogram_id=tg.id,
+                   note=note)
     except RuntimeError as exc:  # no interactive matplotlib backend (no display)
         _fail(SurveyError(f"cannot open a window here ({exc}); run on a machine with a display"))
 

@@ -1,9 +1,10 @@
-"""Outline editor: draw element outlines on a thermogram and save them as GeoJSON.
+"""Outline editor: draw element outlines and pick the scale on a thermogram.
 
 `OutlineEditor` holds the state and the editing logic and imports no GUI code; the
-matplotlib glue (`build_editor_figure`, `run_editor`) turns mouse and key events into calls
-on it. Coordinates are pixel coordinates ``(x, y)`` = (column, row), y down, as in the
-outline files (DEVELOPERS.md).
+matplotlib glue (`envelope.editor_window`: `build_editor_figure`, `run_editor`, re-exported
+here) turns mouse and key events into calls on it, in a window whose plotting-library key
+map is switched off (its keys are the editor's only). Coordinates are pixel coordinates
+``(x, y)`` = (column, row), y down, as in the outline files (DEVELOPERS.md).
 
 Shortcuts (`SHORTCUTS`)::
 
@@ -11,35 +12,42 @@ Shortcuts (`SHORTCUTS`)::
     right click     delete the nearest vertex (within the pick radius)
     enter / c       close the current outline
     n               start a new outline with the next click
-    e               edit the element name of the current outline (text box)
+    1 … 9           name the current outline after element 1 … 9 of this view's list
+    e               type the element name (checked against the survey's elements)
     r               toggle role: element / reference zone
     p               make the next outline current
     d / delete      delete the selected vertex
-    u               undo
+    u               undo (outlines, names and scale picks)
     x               toggle snapping
-    s               save (press twice to overwrite an existing file)
+    k               scale from a known length: click its two ends, type the length [m]
+    g               scale from reference points: click a point, type its "x, y" [m]; g ends
+    s               save the outlines (twice to overwrite) and the scale (into survey.toml)
 """
 
 from __future__ import annotations
 
 import copy
 import json
-import textwrap
 from pathlib import Path
 
 import numpy as np
+
+__all__ = ["OutlineEditor", "SHORTCUTS", "build_editor_figure", "run_editor"]
 
 SHORTCUTS = (
     ("left click", "add / pick + drag vertex"),
     ("right click", "delete nearest vertex"),
     ("enter, c", "close outline"),
     ("n", "new outline"),
-    ("e", "element name (type, enter)"),
+    ("1 … 9", "name: element of the list"),
+    ("e", "name: type it, enter"),
     ("r", "role: element / reference"),
     ("p", "next outline"),
     ("d, delete", "delete picked vertex"),
     ("u", "undo"),
     ("x", "snapping on / off"),
+    ("k", "scale: known length"),
+    ("g", "scale: reference points"),
     ("s", "save (twice: overwrite)"),
 )
 """Key bindings shown on the editor figure."""
@@ -63,7 +71,9 @@ class OutlineEditor:
         through its neighbour (the previous vertex, else the one that closes the ring) is
         snapped onto that line.
     element_names : iterable of str
-        Known element names (for the GUI's hints and `problems`).
+        The survey's element names: a name outside them is refused (empty: any name).
+    view_elements : iterable of str
+        The elements this view should show, offered as the numbered list (default: all).
 
     Attributes
     ----------
@@ -77,15 +87,25 @@ class OutlineEditor:
     snap : bool
     message : str
         Last status line for the GUI.
+    scale : tuple or None
+        ``("known_length", {"pixel_a", "pixel_b", "length_m"})`` or ``("reference_points",
+        {"pixel_xy", "metre_xy"})`` once picked.
+    mode : str
+        ``"outline"``, or ``"length"`` / ``"points"`` while a scale is being picked.
     """
 
     def __init__(self, shape_px=None, pick_radius_px: float = 6.0, snap_px: float = 4.0,
-                 element_names=()):
+                 element_names=(), view_elements=None):
         self.shape_px = None if shape_px is None else tuple(int(v) for v in shape_px[:2])
         self.pick_radius_px = float(pick_radius_px)
         self.snap_px = float(snap_px)
         self.element_names = tuple(element_names)
+        self.view_elements = tuple(self.element_names if view_elements is None else view_elements)
         self.polygons: list[dict] = []
+        self.scale = None
+        self.mode = "outline"
+        self.scale_points: list = []
+        self.scale_metres: list = []
         self.current: int | None = None
         self.selected: tuple[int, int] | None = None
         self.snap = True
@@ -96,7 +116,9 @@ class OutlineEditor:
 
     # -- state helpers ------------------------------------------------------------------
     def _push(self) -> None:
-        self._history.append((copy.deepcopy(self.polygons), self.current, self.selected))
+        self._history.append((copy.deepcopy(self.polygons), self.current, self.selected,
+                              self.scale, self.mode, list(self.scale_points),
+                              list(self.scale_metres)))
         del self._history[:-MAX_UNDO]
 
     def undo(self) -> bool:
@@ -104,7 +126,8 @@ class OutlineEditor:
         if not self._history:
             self.message = "nothing to undo"
             return False
-        self.polygons, self.current, self.selected = self._history.pop()
+        (self.polygons, self.current, self.selected, self.scale, self.mode, self.scale_points,
+         self.scale_metres) = self._history.pop()
         self.dragging = False
         self.message = "undone"
         return True
@@ -163,6 +186,8 @@ class OutlineEditor:
         """
         if x is None or y is None:
             return ""
+        if self.mode != "outline" and button == 1:
+            return self._scale_click(x, y)
         if button == 3:
             hit = self.nearest_vertex(x, y)
             if hit is None:
@@ -251,9 +276,30 @@ class OutlineEditor:
             return "snap"
         if k == "s":
             return "save"
+        if k == "k":
+            self._push()
+            self.mode, self.scale_points, self.scale_metres = "length", [], []
+            self.message = "known length: click its first end"
+            return "scale-length"
+        if k == "g":
+            if self.mode == "points":
+                return "scale" if self.finish_reference_points() else ""
+            self._push()
+            self.mode, self.scale_points, self.scale_metres = "points", [], []
+            self.message = "reference points: click a point whose position you know"
+            return "scale-points"
+        if k.isdigit() and k != "0":
+            i = int(k) - 1
+            if i < len(self.view_elements):
+                return "name" if self.set_name(self.view_elements[i]) else ""
+            self.message = f"no element {k} in this view's list"
+            return ""
         if k == "escape":
             self.selected = None
             self.dragging = False
+            if self.mode != "outline":
+                self.mode, self.scale_points, self.scale_metres = "outline", [], []
+                self.message = "scale picking cancelled"
             return "deselect"
         return ""
 
@@ -282,16 +328,102 @@ class OutlineEditor:
         return True
 
     def set_name(self, name: str) -> bool:
-        """Set the element name of the current outline; True on success."""
+        """Set the element name of the current outline; True on success. A name that is not
+        one of the survey's elements is refused (the outline keeps its name)."""
         name = str(name).strip()
         if self.current is None or not name:
             self.message = "no outline selected" if name else "empty name"
             return False
+        if self.element_names and name not in self.element_names:
+            self.message = (f"{name!r} is not an element of the survey; known: "
+                            f"{', '.join(self.element_names)}")
+            return False
         self._push()
         self.polygons[self.current]["element"] = name
-        unknown = self.element_names and name not in self.element_names
-        self.message = f"outline {self.current} is {name!r}" + (
-            " (not an element of the survey)" if unknown else "")
+        self.message = f"outline {self.current} is {name!r}"
+        return True
+
+    # -- scale -------------------------------------------------------------------------
+    def _scale_click(self, x: float, y: float) -> str:
+        pt = list(self._clamp(float(x), float(y)))
+        if self.mode == "length":
+            if len(self.scale_points) >= 2:
+                self.message = "type the length between the two ends [m], then enter"
+                return ""
+            self._push()
+            self.scale_points.append(pt)
+            self.message = ("known length: click its other end" if len(self.scale_points) == 1
+                            else "type the length between the two ends [m], then enter")
+            return "scale-point"
+        if len(self.scale_points) > len(self.scale_metres):
+            self.message = "type this point's position \"x, y\" [m], then enter"
+            return ""
+        self._push()
+        self.scale_points.append(pt)
+        self.message = f"point {len(self.scale_points)}: type its position \"x, y\" [m], then enter"
+        return "scale-point"
+
+    def wants_text(self) -> bool:
+        """True while a scale pick waits for typed metres."""
+        return ((self.mode == "length" and len(self.scale_points) == 2)
+                or (self.mode == "points" and len(self.scale_points) > len(self.scale_metres)))
+
+    def scale_text(self, text: str) -> bool:
+        """Take typed metres: the known length, or a reference point's ``x, y``."""
+        try:
+            nums = [float(v) for v in str(text).replace(";", ",").split(",") if v.strip()]
+        except ValueError:
+            nums = []
+        if self.mode == "length" and len(self.scale_points) == 2:
+            if len(nums) != 1 or not 0.0 < nums[0] <= 1000.0:
+                self.message = "expected one length in metres, e.g. 2.4"
+                return False
+            a, b = self.scale_points
+            if a == b:
+                self.message = "the two ends are the same pixel; press k to start again"
+                return False
+            self._push()
+            self.scale = ("known_length", {"pixel_a": a, "pixel_b": b, "length_m": nums[0]})
+            self.mode, self.scale_points = "outline", []
+            self.message = f"scale: {nums[0]:g} m between two points (saved with s)"
+            return True
+        if self.mode == "points" and len(self.scale_points) > len(self.scale_metres):
+            if len(nums) != 2:
+                self.message = "expected the point's position as \"x, y\" in metres"
+                return False
+            self._push()
+            self.scale_metres.append(nums)
+            n = len(self.scale_metres)
+            self.message = (f"{n} reference point{'s' if n > 1 else ''}; click another, or "
+                            "press g to finish" + (" (4 needed)" if n < 4 else ""))
+            return True
+        self.message = "press k or g to pick a scale"
+        return False
+
+    def finish_reference_points(self) -> bool:
+        """End reference-point picking; needs 4 or more complete points."""
+        n = len(self.scale_metres)
+        if n < 4:
+            self.message = f"{n} reference points; 4 or more are needed (esc cancels)"
+            return False
+        self._push()
+        self.scale = ("reference_points", {"pixel_xy": self.scale_points[:n],
+                                           "metre_xy": self.scale_metres[:n]})
+        self.mode, self.scale_points, self.scale_metres = "outline", [], []
+        self.message = f"scale: {n} reference points (saved with s)"
+        return True
+
+    def save_scale(self, survey_file, thermogram_id: str) -> bool:
+        """Write the picked scale into `survey_file` as the thermogram's
+        ``[thermograms.known_length]`` or ``[thermograms.reference_points]`` (a conservative
+        text edit; the other kind, if present, is commented out). False when no scale."""
+        from .tomledit import set_thermogram_table
+
+        if self.scale is None:
+            return False
+        table, values = self.scale
+        other = "reference_points" if table == "known_length" else "known_length"
+        set_thermogram_table(Path(survey_file), thermogram_id, table, values, replaces=(other,))
         return True
 
     def toggle_role(self) -> bool:
@@ -416,178 +548,17 @@ def _open(ring) -> list[list[float]]:
     return pts
 
 
-# -- matplotlib glue ---------------------------------------------------------------------
-def build_editor_figure(image_c, geojson_path, element_names=(), title=""):
-    """Build the editor figure (any backend) and connect its events.
-
-    Parameters
-    ----------
-    image_c : array_like, shape (H, W)
-        Surface temperatures [°C].
-    geojson_path : str or Path
-        Outline file; loaded when it exists, written on "s".
-    element_names : iterable of str
-    title : str
-
-    Returns
-    -------
-    (fig, editor, handlers)
-        ``handlers`` holds the connected callbacks (``"press"``, ``"motion"``,
-        ``"release"``, ``"key"``, ``"name"``), the ``"textbox"`` widget and ``"redraw"``.
-    """
-    import matplotlib.pyplot as plt
-    from matplotlib.widgets import TextBox
-
-    img = np.asarray(image_c, dtype=float)
-    path = Path(geojson_path)
-    editor = OutlineEditor(shape_px=img.shape, element_names=element_names)
-    if path.exists():
-        editor.from_geojson(json.loads(path.read_text(encoding="utf-8")))
-    finite = img[np.isfinite(img)]
-    lo, hi = (np.percentile(finite, [1, 99]) if finite.size else (0.0, 1.0))
-    fig = plt.figure(figsize=(11.0, 6.5))
-    ax = fig.add_axes((0.07, 0.12, 0.58, 0.8))
-    im = ax.imshow(img, cmap="inferno", vmin=lo, vmax=hi if hi > lo else lo + 1,
-                   interpolation="nearest")
-    fig.colorbar(im, ax=ax, fraction=0.046, pad=0.03).set_label("Surface temperature [°C]")
-    ax.set_title(title or f"outlines: {path.name}")
-    ax.set_xlabel("x [px]")
-    ax.set_ylabel("y [px]")
-    ax.set_autoscale_on(False)
-    text_ax = fig.add_axes((0.12, 0.02, 0.45, 0.05))
-    keys = "\n".join(f"{k:<12} {v}" for k, v in SHORTCUTS)
-    names = "\n".join(textwrap.wrap(", ".join(element_names), 34))
-    fig.text(0.73, 0.92, keys + (f"\n\nelements:\n{names}" if names else ""),
-             va="top", family="monospace", fontsize=8)
-    status = fig.text(0.05, 0.95, "", fontsize=9)
-    artists: list = []
-    state = {"confirm_overwrite": False}
-
-    def redraw():
-        for a in artists:
-            a.remove()
-        artists.clear()
-        for i, poly in enumerate(editor.polygons):
-            v = np.asarray(poly["vertices"], dtype=float).reshape(-1, 2)
-            if poly["closed"] and len(v):
-                v = np.vstack([v, v[:1]])
-            ls = "--" if poly["role"] == "reference" else "-"
-            colour = "cyan" if i == editor.current else "white"
-            (line,) = ax.plot(v[:, 0], v[:, 1], ls, color=colour, lw=1.4, marker="o", ms=3)
-            artists.append(line)
-            if poly["element"] and len(v):
-                cx, cy = v.mean(axis=0)
-                artists.append(ax.text(cx, cy, f"{poly['element']} ({poly['role']})",
-                                       color=colour, fontsize=8, ha="center", va="center"))
-        if editor.selected is not None:
-            i, j = editor.selected
-            x, y = editor.polygons[i]["vertices"][j]
-            artists.extend(ax.plot([x], [y], "s", mfc="none", mec="lime", ms=8))
-        status.set_text(editor.message)
-        fig.canvas.draw_idle()
-
-    def on_press(event):
-        if event.inaxes is not ax or textbox.capturekeystrokes:
-            return
-        button = int(event.button) if event.button is not None else 0
-        if editor.click(event.xdata, event.ydata, button):
-            redraw()
-
-    def on_motion(event):
-        if event.inaxes is ax and editor.drag(event.xdata, event.ydata):
-            redraw()
-
-    def on_release(event):
-        editor.release()
-
-    def on_key(event):
-        # connected before the text box: while it captures keys they are not shortcuts
-        if textbox.capturekeystrokes:
-            return
-        action = editor.key(event.key)
-        if action == "save":
-            exists = path.exists()
-            try:
-                editor.save(path, overwrite=exists and state["confirm_overwrite"])
-                state["confirm_overwrite"] = False
-            except FileExistsError:
-                state["confirm_overwrite"] = True
-                editor.message = f"{path.name} exists: press s again to overwrite it"
-            else:
-                left = editor.problems()
-                if left:
-                    editor.message += f" ({'; '.join(left[:2])})"
-        else:
-            state["confirm_overwrite"] = False
-        if action == "edit-name":
-            textbox.eventson = False
-            textbox.set_val("")  # a fresh name; enter with an empty box changes nothing
-            textbox.eventson = True
-            textbox.cursor_index = 0
-            state["start_typing"] = True  # after the text box has seen this "e"
-        if action:
-            redraw()
-
-    def after_key(event):
-        if state.pop("start_typing", False):
-            textbox.begin_typing()
-
-    def on_name(text):
-        if textbox.capturekeystrokes:  # enter: stop typing, which submits once more
-            textbox.stop_typing()
-            return
-        if editor.set_name(text):
-            redraw()
-
-    cids = [fig.canvas.mpl_connect("button_press_event", on_press),
-            fig.canvas.mpl_connect("motion_notify_event", on_motion),
-            fig.canvas.mpl_connect("button_release_event", on_release),
-            fig.canvas.mpl_connect("key_press_event", on_key)]
-    textbox = TextBox(text_ax, "element ")  # its key handler runs after on_key
-    cids.append(fig.canvas.mpl_connect("key_press_event", after_key))
-    textbox.on_submit(on_name)
-    redraw()
-    handlers = {"press": on_press, "motion": on_motion, "release": on_release, "key": on_key,
-                "name": on_name, "textbox": textbox, "redraw": redraw, "axes": ax,
-                "cids": cids}
-    return fig, editor, handlers
 
 
-_INTERACTIVE_BACKENDS = ("QtAgg", "TkAgg", "GTK4Agg", "GTK3Agg", "MacOSX", "WXAgg")
+def build_editor_figure(image_c, geojson_path, element_names=(), title="", **kwargs):
+    """Build the editor figure; see `envelope.editor_window.build_editor_figure`."""
+    from .editor_window import build_editor_figure as build
+
+    return build(image_c, geojson_path, element_names, title, **kwargs)
 
 
-def run_editor(image_c, geojson_path, element_names=(), title="") -> None:
-    """Open the outline editor on a thermogram and block until its window is closed.
+def run_editor(image_c, geojson_path, element_names=(), title="", **kwargs) -> None:
+    """Open the editor window; see `envelope.editor_window.run_editor`."""
+    from .editor_window import run_editor as run
 
-    Parameters
-    ----------
-    image_c : array_like, shape (H, W)
-        Surface temperatures [°C].
-    geojson_path : str or Path
-        Outline file to edit (loaded when it exists; saved with "s").
-    element_names : iterable of str
-        The survey's element names, shown as a reminder.
-    title : str
-        Figure title.
-
-    Raises
-    ------
-    RuntimeError
-        When no interactive matplotlib backend can be started (no display).
-    """
-    import matplotlib
-    import matplotlib.pyplot as plt
-
-    backend = matplotlib.get_backend().lower()
-    if backend in ("agg", "pdf", "ps", "svg", "cairo", "template") or "inline" in backend:
-        for name in _INTERACTIVE_BACKENDS:
-            try:
-                plt.switch_backend(name)
-                break
-            except (ImportError, RuntimeError, ValueError):
-                continue
-        else:
-            raise RuntimeError("the outline editor needs an interactive matplotlib backend "
-                               "(a display and Qt, Tk or GTK); none could be started")
-    build_editor_figure(image_c, geojson_path, element_names, title)
-    plt.show()
+    run(image_c, geojson_path, element_names, title, **kwargs)

@@ -100,9 +100,21 @@ def read_outlines(path, shape_px, element_names=None) -> list[Outline]:
         raise GeometryError(f"outline file is {size} bytes, more than the limit "
                             f"{MAX_FILE_BYTES}", file=str(path))
     try:
-        obj = json.loads(path.read_text(encoding="utf-8"))
-    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise GeometryError(f"not valid JSON ({exc})", file=str(path)) from None
+        with open(path, encoding="utf-8") as fh:
+            text = fh.read()
+        obj = json.loads(text)
+    except OSError as exc:
+        raise GeometryError(f"cannot read outline file ({exc.strerror or type(exc).__name__})",
+                            file=str(path)) from None
+    except UnicodeDecodeError as exc:
+        raise GeometryError(f"not UTF-8 text (byte {exc.start}); expected GeoJSON",
+                            file=str(path)) from None
+    except json.JSONDecodeError as exc:
+        raise GeometryError(f"not valid JSON ({exc.msg} at line {exc.lineno}, column "
+                            f"{exc.colno})", file=str(path)) from None
+    except RecursionError:
+        raise GeometryError("JSON nested too deeply; expected a GeoJSON FeatureCollection",
+                            file=str(path)) from None
     return parse_outlines(obj, shape_px, element_names, source=str(path))
 
 

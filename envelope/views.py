@@ -108,7 +108,7 @@ class SurveyFolder:
 
     def open_view(self, thermogram: Thermogram) -> ViewData:
         label = _rel(thermogram.file, self.root)
-        readings = load_pixels(thermogram.file, label)
+        readings = load_pixels(thermogram.file, label, thermogram.export)
         olabel = _rel(thermogram.outlines, self.root)
         outlines = read_outlines(thermogram.outlines, readings.shape, tuple(self.survey.elements))
         return ViewData(thermogram, readings, tuple(outlines), label, olabel)
@@ -128,10 +128,11 @@ class SurveyFolder:
                                   f"frame (row {i + 2})")
             paths.append(path)
         labels = tuple(p.relative_to(root).as_posix() for p in paths)
+        export = self.survey.thermogram(series.thermogram).export
 
         def frames() -> Iterator[np.ndarray]:
             for path, flabel in zip(paths, labels, strict=True):
-                yield load_pixels(path, flabel)
+                yield load_pixels(path, flabel, export)
 
         refl = rows["reflected_c"].to_numpy(float) if "reflected_c" in rows else None
         return SeriesData(series, rows["hours"].to_numpy(float),

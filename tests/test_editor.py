@@ -181,3 +181,102 @@ def test_overlay_writes_png(tmp_path):
                         defects=[(2, regs["d"].polygon_net)])
     for p in (p1, p2):
         assert p.read_bytes()[:8] == PNG_SIGNATURE
+
+
+# -- issue 13: an editor that works the first time -----------------------------------------
+def _survey_for_editor(tmp_path):
+    from conftest import SURVEY_TOML, write_survey
+
+    toml = SURVEY_TOML.replace(
+        "[thermograms.known_length]\npixel_a = [0, 119.5]\npixel_b = [160, 119.5]\nlength_m = 4.0\n", "")
+    root = write_survey(tmp_path / "s", toml)
+    (root / "outlines" / "room-north.geojson").unlink()
+    return root
+
+
+def test_default_key_map_is_off_in_the_editor_window(tmp_path):
+    from matplotlib.backend_bases import key_press_handler
+
+    fig, _ed, _h = build_editor_figure(image(), tmp_path / "o.geojson")
+    connected = [ref() for ref in fig.canvas.callbacks.callbacks.get("key_press_event", {}).values()]
+    # matplotlib's default handler (s: save dialog, p: pan) must not be connected
+    assert all(getattr(f, "__func__", f) is not key_press_handler for f in connected)
+    assert fig.canvas.manager.key_press_handler_id is None
+    plt.close(fig)
+
+
+def test_editor_from_no_file_to_saved_outlines_and_scale(tmp_path):
+    import tomllib
+
+    from envelope.survey import load_survey
+
+    root = _survey_for_editor(tmp_path)
+    path = root / "outlines" / "room-north.geojson"
+    toml_before = (root / "survey.toml").read_text()
+    fig, ed, handlers = build_editor_figure(
+        image(), path, element_names=("test-wall", "test-window"),
+        view_elements=("test-wall", "test-window"), survey_file=root / "survey.toml",
+        thermogram_id="room-north")
+    assert not path.exists() and ed.polygons == []          # opens with no outlines file
+    ax = handlers["axes"]
+    for x, y in [(1, 1), (79, 1), (79, 59), (1, 59)]:
+        _mouse(fig, ax, "button_press_event", x, y)
+        _mouse(fig, ax, "button_release_event", x, y)
+    _key(fig, "enter")
+    _key(fig, "1")                                          # name from the view's list
+    assert ed.polygons[0]["element"] == "test-wall"
+    _type_name(fig, "kitchen-wall")                         # not a survey element: refused
+    assert ed.polygons[0]["element"] == "test-wall" and "not an element" in ed.message
+    assert handlers["textbox"].text == ""                   # the box is cleared
+    _key(fig, "n")
+    for x, y in [(50, 15), (70, 15), (70, 40)]:
+        _mouse(fig, ax, "button_press_event", x, y)
+        _mouse(fig, ax, "button_release_event", x, y)
+    _key(fig, "u")                                          # undo the last vertex
+    assert len(ed.polygons[1]["vertices"]) == 2
+    for x, y in [(70, 40), (50, 40)]:
+        _mouse(fig, ax, "button_press_event", x, y)
+        _mouse(fig, ax, "button_release_event", x, y)
+    _key(fig, "c")
+    _key(fig, "2")
+    # scale from a known length: 40 px along a row are 2.0 m
+    _key(fig, "k")
+    for x, y in [(20, 50), (60, 50)]:
+        _mouse(fig, ax, "button_press_event", x, y)
+        _mouse(fig, ax, "button_release_event", x, y)
+    for ch in "2.0":
+        _key(fig, ch)
+    _key(fig, "enter")
+    assert ed.scale[0] == "known_length" and ed.scale[1]["length_m"] == 2.0
+    _key(fig, "s")
+    plt.close(fig)
+    saved = read_outlines(path, SHAPE, ["test-wall", "test-window"])
+    assert sorted(o.element for o in saved) == ["test-wall", "test-window"]
+    new_text = (root / "survey.toml").read_text()
+    assert new_text.startswith(toml_before.rstrip("\n").split("[[measures]]")[0][:200])
+    kl = tomllib.loads(new_text)["thermograms"][0]["known_length"]
+    assert kl == {"pixel_a": [20.0, 50.0], "pixel_b": [60.0, 50.0], "length_m": 2.0}
+    s = load_survey(root)                                   # the edited survey loads
+    assert s.thermograms[0].known_length.length_m == 2.0
+    # every line the surveyor typed is still there, in order
+    old_lines = [ln for ln in toml_before.splitlines() if ln.strip()]
+    it = iter(new_text.splitlines())
+    assert all(any(ln == m for m in it) for ln in old_lines)
+    fig2, ed2, _ = build_editor_figure(image(), path, element_names=("test-wall", "test-window"))
+    assert [p["element"] for p in ed2.polygons] == ["test-wall", "test-window"]  # reload
+    plt.close(fig2)
+
+
+def test_reference_points_need_four_and_undo_scale(tmp_path):
+    ed = OutlineEditor(shape_px=SHAPE)
+    assert ed.key("g") == "scale-points"
+    for i, (x, y) in enumerate([(0, 0), (80, 0), (80, 60), (0, 60)]):
+        ed.click(x, y, 1)
+        assert ed.wants_text()
+        assert ed.scale_text(["0, 1.5", "2, 1.5", "2, 0", "0, 0"][i])
+        if i == 2:
+            assert ed.key("g") == ""  # three points are not enough
+    assert ed.key("g") == "scale"
+    assert ed.scale[0] == "reference_points" and len(ed.scale[1]["pixel_xy"]) == 4
+    ed.undo()
+    assert ed.scale is None and ed.mode == "points"

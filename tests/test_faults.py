@@ -167,10 +167,12 @@ def test_final_move_failing_leaves_nothing(survey_dir, tmp_path, monkeypatch):
 
 
 def test_unreadable_survey_file(survey_dir, tmp_path, monkeypatch):
-    _fail_paths(monkeypatch, Path, "read_text", errno.EACCES, "survey.toml")
     inputs = digest(survey_dir)
+    _fail_paths(monkeypatch, Path, "read_text", errno.EACCES, "survey.toml")
+    _fail_paths(monkeypatch, Path, "read_bytes", errno.EACCES, "survey.toml")
     res = cli("assess", survey_dir, "--out", tmp_path / "out", "--quiet", *DRAWS)
-    _refused(res, tmp_path, inputs, survey_dir, "survey.toml", "permission denied")
+    monkeypatch.undo()
+    _refused(res, tmp_path, inputs, survey_dir, "survey.toml", "ermission denied")
 
 
 def test_survey_file_that_is_a_folder(tmp_path):

@@ -126,8 +126,10 @@ def test_csv_and_tiff_pixels_read_like_npy(tmp_path):
     tifffile.imwrite(tmp_path / "a.tif", img, compression="zlib")
     np.testing.assert_allclose(load_pixels(tmp_path / "a.csv"), img, atol=1e-5)
     np.testing.assert_array_equal(load_pixels(tmp_path / "a.tif"), img)
-    (tmp_path / "b.csv").write_text("1,2,x\n")
-    with pytest.raises(SurveyError, match="line 1"):
+    rows = [",".join(["20.5"] * 10)] * 10
+    rows[4] = rows[4][:-4] + "x"
+    (tmp_path / "b.csv").write_text("\n".join(rows) + "\n")
+    with pytest.raises(SurveyError, match="line 5, value 10: not a number"):
         load_pixels(tmp_path / "b.csv")
 
 
@@ -184,3 +186,181 @@ def test_loader_never_raises_anything_but_survey_error(tmp_path_factory, picks):
         load_survey(root)
     except SurveyError as exc:
         assert str(exc)  # a message, naming what it can
+
+
+# ---- issue 12 (loader side): identifiers, free text, paths, self-references, file faults.
+# Each case: `assess` exits 2 with one line naming the file and the key, the inputs are
+# byte-identical afterwards and nothing is written beside --out.
+
+def _snapshot(root):
+    def content(p):
+        with open(p, "rb") as fh:
+            return fh.read()
+
+    return {p: (content(p) if p.is_file() and not p.is_symlink() else None)
+            for p in sorted(root.rglob("*"))}
+
+
+def _assess_refuses(tmp_path, root, expect):
+    before = _snapshot(root)
+    siblings = sorted(p.name for p in tmp_path.iterdir())
+    out = tmp_path / "out"
+    res = runner.invoke(app, ["assess", str(root), "--out", str(out), "--quiet"])
+    assert res.exit_code == 2, (res.output, res.exception)
+    msg = res.output.strip()
+    assert msg.startswith("envelope: error:") and len(msg.splitlines()) == 1, msg
+    for e in expect:
+        assert e.lower() in msg.lower(), (e, msg)
+    assert not out.exists()
+    assert sorted(p.name for p in tmp_path.iterdir()) == siblings
+    assert _snapshot(root) == before
+    return msg
+
+
+LONG = "x" * 300
+ID_CASES = [
+    ("thermogram-id-300-chars", ('id = "room-north"', f'id = "{LONG}"'), "thermograms[0].id"),
+    ("thermogram-id-with-nul", ('id = "room-north"', 'id = "room\\u0000north"'), "thermograms[0].id"),
+    ("thermogram-id-path-traversal", ('id = "room-north"', 'id = "../../x"'), "thermograms[0].id"),
+    ("thermogram-id-leading-dot", ('id = "room-north"', 'id = ".hidden"'), "thermograms[0].id"),
+    ("element-name-with-dollar-math", ('name = "test-window"', 'name = "$\\\\frac{1}{0}$"'), "elements[1].name"),
+    ("element-name-with-slash", ('name = "test-window"', 'name = "a/b"'), "elements[1].name"),
+    ("element-name-with-escape", ('name = "test-window"', 'name = "win\\u001b[31m"'), "elements[1].name"),
+    ("series-id-traversal", ('[[measures]]', '[[series]]\nid = "../../evil"\nthermogram = "room-north"\n'
+                             'element = "test-wall"\nair_log = "log.csv"\n\n[[measures]]'), "series[0].id"),
+]
+TEXT_CASES = [
+    ("site-name-too-long", ('name = "Test Cottage"', f'name = "{"y" * 201}"'), "site.name"),
+    ("site-name-control-char", ('name = "Test Cottage"', 'name = "Test\\u0007Cottage"'), "site.name"),
+    ("surveyor-line-break", ('surveyor = "T. Tester"', 'surveyor = "T.\\nTester"'), "survey.surveyor"),
+    ("town-bidi-override", ('town = "Nowhere Parva"', 'town = "Nowhere\\u202eParva"'), "site.town"),
+    ("measure-name-control-char", ('name = "Insulate the wall"', 'name = "Insulate\\u0000"'), "measures[0].name"),
+    ("camera-label-too-long", ('accuracy_k = 1.0', f'label = "{"c" * 250}"\naccuracy_k = 1.0'), "camera.label"),
+]
+SELF_CASES = [
+    ("window-hosted-by-itself", ('host = "test-wall"', 'host = "test-window"'), "elements[1].host"),
+    ("host-not-wall-or-roof", ('kind = "wall"\nu_specified', 'kind = "floor"\nu_specified'), "elements[1].host"),
+    ("pressure-pair-with-itself", ('[[measures]]', '[[pressure_pairs]]\nbaseline = "room-north"\n'
+                                   'depressurised = "room-north"\npressure_difference_pa = 50\n\n[[measures]]'),
+     "pressure_pairs[0].depressurised"),
+    ("junction-with-itself", ('[[measures]]', '[[junctions]]\nelements = ["test-wall", "test-wall"]\n'
+                              'junction_type = "corner"\n\n[[measures]]'), "junctions[0].elements"),
+    ("airtightness-both-results", ('[[measures]]', '[airtightness]\nn50_per_h = 5.0\nq50_m3_h_m2 = 4.0\n\n[[measures]]'),
+     "airtightness.n50_per_h"),
+]
+
+
+@pytest.mark.parametrize("case,edit,field", ID_CASES + TEXT_CASES + SELF_CASES,
+                         ids=[c[0] for c in ID_CASES + TEXT_CASES + SELF_CASES])
+def test_loader_refuses_unsafe_or_self_referencing_input(tmp_path, case, edit, field):
+    root = write_survey(tmp_path / "survey", _toml(*edit))
+    if case == "series-id-traversal":
+        (root / "log.csv").write_text("time,indoor_air_c,outdoor_air_c,frame\n")
+    msg = _assess_refuses(tmp_path, root, ["survey.toml", field])
+    assert "\x00" not in msg and "\x1b" not in msg and "\u202e" not in msg
+
+
+def test_symlinked_thermogram_outside_survey_refused_without_echo(tmp_path):
+    secret = tmp_path / "secret.npy"
+    np.save(secret, readings())
+    root = write_survey(tmp_path / "survey")
+    (root / "thermograms" / "room-north.npy").unlink()
+    (root / "thermograms" / "room-north.npy").symlink_to(secret)
+    _assess_refuses(tmp_path, root, ["thermograms[0].file", "outside the survey folder"])
+
+
+def test_symlinked_outline_outside_survey_refused_without_echo(tmp_path):
+    foreign = tmp_path / "foreign.geojson"
+    foreign.write_text('{"s3cr3tt0ken": 1}')
+    root = write_survey(tmp_path / "survey")
+    (root / "outlines" / "room-north.geojson").unlink()
+    (root / "outlines" / "room-north.geojson").symlink_to(foreign)
+    msg = _assess_refuses(tmp_path, root, ["thermograms[0].outlines", "outside the survey folder"])
+    assert "s3cr3tt0ken" not in msg
+
+
+def test_survey_toml_that_is_a_directory_is_one_line_error(tmp_path):
+    root = tmp_path / "survey"
+    (root / "survey.toml").mkdir(parents=True)
+    _assess_refuses(tmp_path, root, ["survey.toml", "expected a file"])
+
+
+def test_unreadable_survey_toml_is_one_line_error(tmp_path, monkeypatch):
+    root = write_survey(tmp_path / "survey")
+    real = type(root).read_bytes
+
+    def denied(self):
+        if self.name == "survey.toml":
+            raise PermissionError(13, "Permission denied", str(self))
+        return real(self)
+
+    monkeypatch.setattr(type(root), "read_bytes", denied)
+    _assess_refuses(tmp_path, root, ["survey.toml", "permission"])
+
+
+def test_survey_path_that_is_a_csv_file_is_refused(tmp_path):
+    f = tmp_path / "grid.csv"
+    f.write_text("1,2\n")
+    res = runner.invoke(app, ["inspect", str(f)])
+    assert res.exit_code == 2 and "expected a survey folder" in res.output
+
+
+def test_missing_folder_points_to_init(tmp_path):
+    res = runner.invoke(app, ["inspect", str(tmp_path / "nowhere")])
+    assert res.exit_code == 2 and "envelope init" in res.output
+    (tmp_path / "empty").mkdir()
+    res = runner.invoke(app, ["inspect", str(tmp_path / "empty")])
+    assert res.exit_code == 2 and "envelope init" in res.output
+
+
+def test_deeply_nested_geojson_is_a_clear_error(tmp_path):
+    root = write_survey(tmp_path / "survey")
+    (root / "outlines" / "room-north.geojson").write_text("[" * 100000 + "]" * 100000)
+    res = runner.invoke(app, ["inspect", str(root)])
+    assert res.exit_code == 2 and "room-north.geojson" in res.output and "Traceback" not in res.output
+    _assess_refuses(tmp_path, root, ["room-north.geojson"])
+
+
+def test_deeply_nested_toml_is_a_clear_error(tmp_path):
+    root = write_survey(tmp_path / "survey", SURVEY_TOML + "\ndeep = " + "[" * 5000 + "]" * 5000 + "\n")
+    _assess_refuses(tmp_path, root, ["survey.toml"])
+
+
+def test_all_required_keys_in_one_message(tmp_path):
+    toml = _toml("indoor_air_c = 21.0\n", "").replace("outdoor_air_c = 1.0\n", "").replace(
+        "reflected_c = 20.0\ndistance_m", "distance_m").replace('name = "Test Cottage"', 'name = "fill in"')
+    root = write_survey(tmp_path / "survey", toml)
+    msg = _assess_refuses(tmp_path, root, ["4 required keys"])
+    for key in ("site.name", "conditions.indoor_air_c", "conditions.outdoor_air_c", "thermograms[0].reflected_c"):
+        assert key in msg
+
+
+def test_outlines_file_without_features_loads_and_inspect_lists_it(tmp_path):
+    root = write_survey(tmp_path / "survey", outlines={"type": "FeatureCollection", "features": []})
+    load_survey(root)  # not a load error
+    res = runner.invoke(app, ["inspect", str(root)])
+    assert res.exit_code == 0, res.output
+    assert "Still needed" in res.output and "no outline yet" in res.output
+
+
+def test_native_toml_date_and_new_keys_load(tmp_path):
+    toml = _toml('date = "2026-01-10"', "date = 2026-01-10").replace(
+        "[conditions]\n", '[conditions]\ntime = "22:30"\n').replace(
+        'kind = "wall"\nu_specified_w_m2k = 0.6',
+        'kind = "wall"\nu_specified_w_m2k = 0.6\nlabel = "Lounge, north wall"\n'
+        'heat_capacity_kj_m2k = 180\nu_specified_basis = "air"').replace(
+        "[thermograms.export]", 'mrt_c = 19.5\nmrt_std_k = 0.4\n\n[thermograms.heat_flux_meter]\n'
+        'pixel_xy = [40, 40]\nq_w_m2 = 9.5\nq_std_w_m2 = 0.6\n\n[thermograms.export]') + (
+        '\n[airtightness]\nn50_per_h = 4.2\nvolume_m3 = 310\nstoreys = 2\n'
+        '\n[[junctions]]\nelements = ["test-wall", "test-window"]\njunction_type = "window-reveal"\n'
+        'psi_specified_w_mk = 0.05\n')
+    s = load_survey(write_survey(tmp_path / "s", toml))
+    assert s.date == "2026-01-10" and s.conditions.time == "22:30"
+    t = s.thermograms[0]
+    assert t.time == "22:30" and t.mrt_c == 19.5 and t.mrt_std_k == 0.4      # default from conditions
+    assert t.heat_flux_meter.q_w_m2 == 9.5 and t.heat_flux_meter.surface_c is None
+    w = s.elements["test-wall"]
+    assert w.label == "Lounge, north wall" and w.heat_capacity_kj_m2k == 180 and w.u_specified_basis == "air"
+    assert s.elements["test-window"].u_specified_basis == "environmental"
+    assert s.airtightness.n50_per_h == 4.2 and s.airtightness.shielding == "normal"
+    assert s.junctions[0].elements == ("test-wall", "test-window")

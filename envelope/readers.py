@@ -1,0 +1,419 @@
+"""Pixel files of camera exports → temperatures [°C], and the series air log (edge).
+
+One reader for every kind of pixel file a survey may name:
+
+- text grids (``.csv``, ``.txt``, ``.tsv``, ``.asc``) in any common dialect, with header
+  lines (`envelope.csvgrid`, `envelope.exportmeta`);
+- TIFF: float pages as they are; integer pages with a declared ``scale`` (and ``offset``);
+  several pages: the largest single-channel page, or the one named by ``page``;
+- 16-bit greyscale PNG with a declared ``scale`` (and ``offset``);
+- ``.npy`` (read without pickle; integer arrays need a ``scale`` too).
+
+The unit of the readings is °C unless the file's header or the survey (``unit`` = "K" or
+"F") says otherwise; readings that look like kelvin without a declared unit are refused with
+the exact key to set. Sizes are checked from the file's own description before any pixel is
+decoded (`MAX_PIXELS`, `MAX_FILE_BYTES`), so a small compressed file cannot take a lot of
+memory. Nothing is guessed: a file that can be read in two ways is refused with the fix.
+Error messages name the file and never quote its bytes.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .errors import SurveyError
+
+__all__ = [
+    "Export", "DeclarationNeeded", "read_export", "load_pixels", "load_air_log", "MAX_PIXELS", "MAX_FILE_BYTES",
+    "MAX_TIFF_PAGES", "KELVIN_SUSPECT_C", "PLAUSIBLE_C", "MAX_INVALID_SHARE", "TEXT_SUFFIXES",
+    "IMAGE_SUFFIXES",
+]
+
+MAX_PIXELS = 4096 * 4096
+"""Largest thermogram accepted [px]; bigger files are refused before they are decoded."""
+MAX_FILE_BYTES = 256 * 1024 * 1024
+"""Largest pixel file read [bytes]."""
+MAX_TIFF_PAGES = 64
+"""Most pages looked at in a multi-page TIFF."""
+MAX_SEGMENT_PX = 4096 * 4096
+"""Largest TIFF strip or tile [px] (a tile larger than the cap is refused before decoding)."""
+KELVIN_SUSPECT_C = 150.0
+"""A median reading above this [°C] looks like kelvin exported by mistake."""
+PLAUSIBLE_C = (-60.0, 200.0)
+"""Readings outside this range [°C] cannot be building surfaces."""
+MAX_INVALID_SHARE = 0.5
+"""A thermogram with more than this share of NaN pixels is refused."""
+TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".asc")
+IMAGE_SUFFIXES = (".tif", ".tiff", ".png", ".npy")
+_EXPORT_TABLE = "this thermogram's [thermograms.export] table"
+
+
+class DeclarationNeeded(SurveyError):
+    """The file is readable once the survey declares how: ``keys`` of ``[thermograms.export]``
+    to set (e.g. ``scale`` and ``unit`` for raw counts, ``page`` for a stack of pages)."""
+
+    def __init__(self, message: str, file: str | None = None, keys: tuple[str, ...] = ()):
+        super().__init__(message, file)
+        self.keys = tuple(keys)
+
+
+@dataclass(frozen=True)
+class Export:
+    """One camera export, read.
+
+    Attributes
+    ----------
+    readings_c : ndarray of float32, shape (H, W)
+        Temperatures as exported [°C] (NaN: invalid pixel).
+    settings : dict
+        Export settings found in the file's header (see `envelope.exportmeta`).
+    header : dict of str to str
+        The header's ``key → value`` lines as written.
+    dialect : str
+        What kind of file it was and how it was read.
+    notes : tuple of str
+        Header values left out, and why.
+    """
+
+    readings_c: np.ndarray
+    settings: dict = field(default_factory=dict)
+    header: dict = field(default_factory=dict)
+    dialect: str = ""
+    notes: tuple = ()
+
+
+def load_pixels(path, label: str | None = None, settings=None) -> np.ndarray:
+    """Read one thermogram's per-pixel temperatures [°C] as float32 (H, W).
+
+    Parameters
+    ----------
+    path : str or Path
+        The pixel file.
+    label : str, optional
+        Name used in messages (default: the path).
+    settings : ExportSettings, optional
+        The thermogram's ``[thermograms.export]`` table: ``unit``, ``scale``, ``offset`` and
+        ``page`` are used (None: nothing declared).
+
+    Returns
+    -------
+    ndarray of float32
+        Readings as exported [°C].
+
+    Raises
+    ------
+    SurveyError
+        A file that is too big, not an image of temperatures, ambiguous, mostly NaN, in
+        kelvin without saying so, or outside the range of building surfaces.
+    """
+    return read_export(path, label, settings).readings_c
+
+
+def read_export(path, label: str | None = None, settings=None) -> Export:
+    """Read a camera export: temperatures [°C] and the settings in its header.
+
+    Parameters and errors as `load_pixels`; returns an `Export`.
+    """
+    path = Path(path)
+    name = label or str(path)
+    unit = getattr(settings, "unit", None)
+    scale = getattr(settings, "scale", None)
+    offset = getattr(settings, "offset", 0.0) or 0.0
+    page = getattr(settings, "page", None)
+    try:
+        if not path.is_file():
+            raise SurveyError("pixel file not found (or not a regular file)", name)
+        size = path.stat().st_size
+    except OSError as exc:
+        raise SurveyError(f"cannot read ({exc.strerror or type(exc).__name__})", name) from None
+    if size > MAX_FILE_BYTES:
+        raise SurveyError(f"file larger than {MAX_FILE_BYTES // 2**20} MB", name)
+    suffix = path.suffix.lower()
+    header: dict = {}
+    found: dict = {}
+    notes: list = []
+    try:
+        if suffix in TEXT_SUFFIXES:
+            values, integer, dialect, header, found, notes = _text(path, name)
+        elif suffix in (".tif", ".tiff"):
+            values, integer, dialect = _tiff(path, name, page)
+        elif suffix == ".png":
+            values, integer, dialect = _png(path, name)
+        elif suffix == ".npy":
+            values, integer, dialect = _npy(path, name)
+        else:
+            raise SurveyError(f"unsupported pixel file type '{suffix[:12]}' (expected "
+                              f"{', '.join(TEXT_SUFFIXES + IMAGE_SUFFIXES)})", name)
+    except SurveyError:
+        raise
+    except MemoryError:
+        raise SurveyError("not enough memory to decode this file", name) from None
+    except OSError as exc:
+        raise SurveyError(f"cannot read ({exc.strerror or type(exc).__name__})", name) from None
+    except Exception as exc:  # noqa: BLE001 - any decoder failure is a bad file for the user
+        raise SurveyError(f"cannot read pixel data ({type(exc).__name__}); expected a "
+                          "readable image of temperatures", name) from None
+    if page is not None and suffix not in (".tif", ".tiff"):
+        raise SurveyError(f"`page` applies to TIFF files only; remove it from {_EXPORT_TABLE}",
+                          name)
+    _check_shape(values, name)
+    if "width" in found and "height" in found and (found["height"], found["width"]) != values.shape:
+        raise SurveyError(f"the header says {found['width']} × {found['height']} px but the grid "
+                          f"has {values.shape[1]} × {values.shape[0]}; the file was not read as "
+                          "written", name)
+    hdr_unit = found.get("unit")
+    if unit and hdr_unit and unit != hdr_unit:
+        raise SurveyError(f"the file's header says the unit is {hdr_unit}, the survey says {unit} "
+                          f"(`unit` in {_EXPORT_TABLE}); make them agree", name)
+    readings = _to_celsius(values, integer, unit or hdr_unit, scale, offset, name)
+    return Export(readings, found, header, dialect, tuple(notes))
+
+
+# --------------------------------------------------------------------------- formats
+def _text(path: Path, name: str):
+    from .csvgrid import read_grid
+    from .exportmeta import settings_from_header
+
+    raw = path.read_bytes()
+    grid = read_grid(raw, name)
+    del raw
+    found, notes = settings_from_header(grid.header)
+    return (grid.values, grid.whole_numbers, grid.dialect, grid.header, found, notes)
+
+
+def _tiff(path: Path, name: str, page_no: int | None):
+    import tifffile
+
+    with tifffile.TiffFile(path) as tif:
+        pages = []
+        for i, p in enumerate(tif.pages):
+            if i >= MAX_TIFF_PAGES:
+                if page_no is None or page_no >= MAX_TIFF_PAGES:
+                    raise SurveyError(f"more than {MAX_TIFF_PAGES} pages; expected an image "
+                                      "with one data page (and perhaps a preview)", name)
+                break
+            pages.append(p)
+        if not pages:
+            raise SurveyError("TIFF without pages", name)
+        if page_no is not None:
+            if page_no >= len(pages):
+                raise SurveyError(f"`page = {page_no}` but the file has {len(pages)} page"
+                                  f"{'s' if len(pages) > 1 else ''} (numbered from 0)", name)
+            page = pages[page_no]
+            if not _single_channel(page):
+                raise SurveyError(f"page {page_no} is a colour or multi-channel picture "
+                                  f"({_describe(page)}), not temperatures", name)
+            chosen = page_no
+        else:
+            data = [(i, p) for i, p in enumerate(pages) if _single_channel(p)]
+            if not data:
+                raise SurveyError("no single-channel page of numbers (a colour picture is not "
+                                  "temperatures); export the per-pixel temperatures", name)
+            big = max(_npix(p) for _, p in data)
+            top = [i for i, p in data if _npix(p) == big]
+            if len(top) > 1:
+                raise DeclarationNeeded(f"pages {', '.join(map(str, top))} hold images of the same size;"
+                                  f" set `page = N` (0-based) in {_EXPORT_TABLE}", name, ("page",))
+            chosen = top[0]
+            page = pages[chosen]
+        _check_tiff_page(page, name)
+        if int(page.compression) != 1 and not _have_imagecodecs():
+            raise SurveyError("a compressed TIFF needs the 'imagecodecs' package to be decoded "
+                              "within bounded memory (pip install imagecodecs)", name)
+        values = page.asarray(maxworkers=1)
+    dtype = np.dtype(values.dtype)
+    dialect = f"TIFF page {chosen} of {len(pages)}: {values.shape[-1]} × {values.shape[0]} px {dtype}"
+    return values, dtype.kind in "iu", dialect
+
+
+def _have_imagecodecs() -> bool:
+    try:
+        import imagecodecs  # noqa: F401
+    except ImportError:
+        return False
+    return True
+
+
+def _npix(page) -> int:
+    return int(np.prod(page.shape, dtype=np.int64))
+
+
+def _single_channel(page) -> bool:
+    shape = tuple(s for s in page.shape if s != 1)
+    kind = np.dtype(page.dtype).kind if page.dtype is not None else "?"
+    return len(shape) == 2 and getattr(page, "samplesperpixel", 1) == 1 and kind in "fiu"
+
+
+def _describe(page) -> str:
+    return f"{'×'.join(map(str, page.shape))} {page.dtype}"
+
+
+def _check_tiff_page(page, name: str) -> None:
+    """Refuse, from the tags alone, a page whose decoding could take more than the caps."""
+    n = _npix(page)
+    if n > MAX_PIXELS:
+        raise SurveyError(f"image of {_describe(page)} exceeds {MAX_PIXELS} pixels", name)
+    itemsize = np.dtype(page.dtype).itemsize
+    if itemsize > 8:
+        raise SurveyError(f"pixel type {page.dtype} is not a temperature", name)
+    if page.is_tiled:
+        seg = int(page.tilewidth) * int(page.tilelength) * max(int(getattr(page, "tiledepth", 1) or 1), 1)
+    else:
+        seg = min(int(page.rowsperstrip or page.imagelength), int(page.imagelength)) * int(page.imagewidth)
+    if seg > MAX_SEGMENT_PX:
+        raise SurveyError(f"a TIFF {'tile' if page.is_tiled else 'strip'} of {seg} pixels "
+                          f"exceeds {MAX_SEGMENT_PX}", name)
+    counts = [int(c) for c in page.databytecounts]
+    if sum(counts) > MAX_FILE_BYTES:
+        raise SurveyError("declared pixel data larger than the file limit", name)
+
+
+def _png(path: Path, name: str):
+    from PIL import Image
+
+    with Image.open(path) as im:
+        if im.format != "PNG":
+            raise SurveyError("not a PNG file", name)
+        w, h = im.size
+        if w * h > MAX_PIXELS:
+            raise SurveyError(f"image of {w} × {h} px exceeds {MAX_PIXELS} pixels", name)
+        if im.mode not in ("I;16", "I;16B", "I;16L", "I"):
+            raise SurveyError(f"a PNG in mode {im.mode} is a picture, not temperatures; expected "
+                              "a 16-bit greyscale PNG of raw values (with `scale`)", name)
+        values = np.asarray(im)
+    return values, True, f"PNG 16-bit greyscale: {w} × {h} px"
+
+
+def _npy(path: Path, name: str):
+    try:
+        data = np.load(path, allow_pickle=False, mmap_mode="r")
+    except ValueError as exc:
+        if "pickle" in str(exc).lower() or "object" in str(exc).lower():
+            raise SurveyError("the .npy file holds Python objects (pickled); expected an array of pixel "
+                              "values (numbers)", name) from None
+        raise
+    if not isinstance(data, np.ndarray):
+        raise SurveyError("expected one array (.npy), not an archive", name)
+    if data.size > MAX_PIXELS:
+        raise SurveyError(f"array of {data.shape} exceeds {MAX_PIXELS} pixels", name)
+    if data.dtype.kind not in "fiu" or data.dtype.itemsize > 8:
+        raise SurveyError(f"expected numeric pixel values, got dtype {data.dtype}", name)
+    values = np.array(data)
+    return values, data.dtype.kind in "iu", f".npy array {data.shape} {data.dtype}"
+
+
+# --------------------------------------------------------------------------- checks
+def _check_shape(values: np.ndarray, name: str) -> None:
+    shape = np.shape(values)
+    if len([s for s in shape if s != 1]) != 2 or len(shape) < 2:
+        raise SurveyError(f"expected a 2-D image of temperatures, got shape {shape}", name)
+    v = np.squeeze(values)
+    if v.shape[0] < 8 or v.shape[1] < 8:
+        raise SurveyError(f"image of {v.shape} is too small (at least 8 × 8 px)", name)
+
+
+_SCALES = ((1.0, "K"), (0.1, "K"), (0.01, "K"), (0.001, "K"), (0.1, "C"), (0.01, "C"),
+           (0.001, "C"))
+
+
+def _hint(med: float) -> str:
+    """The (scale, unit) pairs that put a median reading between −40 and +60 °C."""
+    fits = [(s, u) for s, u in _SCALES if -40.0 <= (med * s - (273.15 if u == "K" else 0.0)) <= 60.0]
+    if not fits:
+        return ""
+    keys = [f"scale = {s:g}, unit = \"{u}\"" for s, u in fits]
+    if len(fits) == 1:
+        return f"; a median of {med:.6g} fits {keys[0]} (offset = 0)"
+    return f"; a median of {med:.6g} fits any of: {' / '.join(keys)}; the camera's export settings tell which"
+
+
+def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.ndarray:
+    """Stored values → readings [°C] (float32), with the unit and plausibility checks."""
+    v = np.squeeze(np.asarray(values))
+    if integer and scale is None:
+        med = float(np.median(v)) if v.size else math.nan
+        raise DeclarationNeeded(f"integer pixel values ({v.dtype}) are raw counts: declare how "
+                                f"they map to temperatures with `scale` and `offset` (reading = "
+                                f"value × scale + offset) and `unit` in {_EXPORT_TABLE}"
+                                f"{_hint(med)}", name, ("scale", "offset", "unit"))
+    if scale is not None:
+        x = v.astype(np.float64) * float(scale) + float(offset)
+    elif offset:
+        x = v.astype(np.float64) + float(offset)
+    else:
+        x = v
+    if unit == "K":
+        x = np.asarray(x, dtype=np.float64) - 273.15
+    elif unit == "F":
+        x = (np.asarray(x, dtype=np.float64) - 32.0) * (5.0 / 9.0)
+    img = np.asarray(x, dtype=np.float32)
+    if img is v or img.base is v or not img.flags.writeable:
+        img = img.copy()
+    finite = np.isfinite(img)
+    share_bad = 1.0 - float(finite.mean())
+    if share_bad > MAX_INVALID_SHARE:
+        raise SurveyError(f"{share_bad:.0%} of the pixels are NaN or infinite", name)
+    img[~finite] = np.nan
+    med = float(np.nanmedian(img))
+    if med > KELVIN_SUSPECT_C and unit is None:
+        if scale is None:
+            raise DeclarationNeeded(f"median reading {med:.6g} looks like kelvin or raw counts: "
+                                    f"declare the unit (`unit = \"K\"` in {_EXPORT_TABLE} for "
+                                    f"kelvin; the readings are then converted to °C){_hint(med)}",
+                                    name, ("unit",))
+        raise SurveyError(f"median reading {med:.6g} after scale and offset: declare `unit` "
+                          f"(\"K\" for kelvin) in {_EXPORT_TABLE}", name)
+    lo, hi = float(np.nanmin(img)), float(np.nanmax(img))
+    if lo < PLAUSIBLE_C[0] or hi > PLAUSIBLE_C[1]:
+        raise SurveyError(f"readings span {lo:.1f}…{hi:.1f} °C, outside {PLAUSIBLE_C[0]:g}…"
+                          f"{PLAUSIBLE_C[1]:g} °C; check `unit`, `scale` and `offset` in "
+                          f"{_EXPORT_TABLE}", name)
+    return img
+
+
+# --------------------------------------------------------------------------- air log
+def load_air_log(path, label: str | None = None):
+    """Read a series log CSV: columns ``time`` (ISO 8601), ``indoor_air_c``, ``outdoor_air_c``,
+    ``frame`` (pixel file of the thermogram taken then, relative to the log, may be empty),
+    optional ``reflected_c``. Returns a pandas DataFrame sorted by time with ``hours`` added.
+    """
+    import pandas as pd
+
+    path = Path(path)
+    name = label or str(path)
+    try:
+        if path.stat().st_size > 64 * 1024 * 1024:
+            raise SurveyError("air log larger than 64 MB", name)
+        df = pd.read_csv(path, dtype={"frame": "string"}, encoding="utf-8-sig")
+    except SurveyError:
+        raise
+    except OSError as exc:
+        raise SurveyError(f"cannot read the air log ({exc.strerror or type(exc).__name__})", name) from None
+    except Exception:  # noqa: BLE001 - any parser failure is a bad file for the user
+        raise SurveyError("cannot read the air log; expected CSV with columns time, "
+                          "indoor_air_c, outdoor_air_c, frame", name) from None
+    for col in ("time", "indoor_air_c", "outdoor_air_c"):
+        if col not in df.columns:
+            raise SurveyError("missing column (expected columns: time, indoor_air_c, "
+                              "outdoor_air_c, frame[, reflected_c])", name, col)
+    try:
+        df["time"] = pd.to_datetime(df["time"], format="ISO8601")
+    except (ValueError, TypeError):
+        raise SurveyError("expected ISO 8601 timestamps, e.g. 2026-01-14T22:00", name, "time") from None
+    for col in ("indoor_air_c", "outdoor_air_c") + (("reflected_c",) if "reflected_c" in df else ()):
+        vals = pd.to_numeric(df[col], errors="coerce")
+        if vals.isna().any():
+            row = int(np.flatnonzero(vals.isna().to_numpy())[0]) + 2
+            raise SurveyError(f"line {row}: expected a number in °C", name, col)
+        df[col] = vals.astype(float)
+    df = df.sort_values("time").reset_index(drop=True)
+    if df["time"].duplicated().any():
+        raise SurveyError("duplicate timestamps", name, "time")
+    df["hours"] = (df["time"] - df["time"].iloc[0]).dt.total_seconds() / 3600.0
+    if "frame" not in df:
+        df["frame"] = pd.NA
+    return df
