@@ -26,7 +26,7 @@ from envelope.condensation import (
     assess_frsi,
     dew_point,
     fixed_limit,
-    frsi_min,
+    frsi_limit,
     humidity_class_excess,
     indoor_vapour_pressure,
     relative_humidity,
@@ -201,13 +201,13 @@ def test_din_4108_2_background():
     # critical surface humidity give θsi,min = 12.6 °C and fRsi >= 0.70.
     # By hand: p_i = 0.5 * 2336.95 = 1168.5 Pa; p_sat = 1460.6 Pa; θsi = 12.62 °C;
     # fRsi = 17.62 / 25 = 0.705.
-    lim = frsi_min(np.full(12, -5.0), np.full(12, 0.8), 20.0,
+    lim = frsi_limit(np.full(12, -5.0), np.full(12, 0.8), 20.0,
                    IndoorHumidity("measured", rh=0.5), critical_rh=0.8)
     assert lim.t_si_min_c[0] == pytest.approx(12.6, abs=0.05)
     assert lim.value == pytest.approx(0.70, abs=0.01)
     assert lim.method == "ISO 13788" and lim.critical_rh == 0.8
     # Surface condensation (φ_crit = 1.0): θsi,min is the dew point, 9.27 °C (psychrolib).
-    cond = frsi_min(np.full(12, -5.0), np.full(12, 0.8), 20.0,
+    cond = frsi_limit(np.full(12, -5.0), np.full(12, 0.8), 20.0,
                     IndoorHumidity("measured", rh=0.5), critical_rh=1.0)
     assert cond.t_si_min_c[0] == pytest.approx(psychrolib.GetTDewPointFromRelHum(20.0, 0.5),
                                                abs=0.1)
@@ -255,16 +255,16 @@ def test_worked_twelve_month_example():
         p_i = p_e + 1.10 * dp
         t_si = iso_t_sat(p_i / 0.8)
         expected.append((t_si - t_e) / (t_i - t_e))
-    lim = frsi_min(CLIMATE_T_E, CLIMATE_RH_E, t_i, IndoorHumidity("humidity_class",
+    lim = frsi_limit(CLIMATE_T_E, CLIMATE_RH_E, t_i, IndoorHumidity("humidity_class",
                                                                  humidity_class=3))
-    np.testing.assert_allclose(lim.frsi_min_monthly, expected, rtol=1e-12)
+    np.testing.assert_allclose(lim.limit_monthly, expected, rtol=1e-12)
     assert lim.critical_month == 12
     assert lim.value == pytest.approx(0.776, abs=5e-4)  # hand table above
     assert lim.t_si_min_c[0] == pytest.approx(15.25, abs=0.005)
     assert lim.p_i_pa[0] == pytest.approx(1385.6, abs=0.05)
     assert lim.skipped_months == (7,)
     assert any("skipped" in n for n in lim.notes)
-    assert np.isnan(lim.frsi_min_monthly[6])  # skipped month, listed, not propagated
+    assert np.isnan(lim.limit_monthly[6])  # skipped month, listed, not propagated
     assert np.isfinite(lim.value)
 
 
@@ -282,7 +282,7 @@ def test_fixed_criteria():
 # ---------------------------------------------------------------------------- verdict
 def test_assess_frsi_risk_levels_and_design_state():
     mould = fixed_limit("bre-ip1-06-dwellings")  # 0.75
-    cond = frsi_min(np.full(12, -5.0), np.full(12, 0.8), 20.0,
+    cond = frsi_limit(np.full(12, -5.0), np.full(12, 0.8), 20.0,
                     IndoorHumidity("measured", rh=0.5), critical_rh=1.0)  # ≈ 0.57
     rng = np.random.default_rng(7)
     good = 0.82 + 0.005 * rng.standard_normal(400)
@@ -309,10 +309,10 @@ def test_rh_in_percent_is_caught():
     with pytest.raises(SurveyError, match="got 55 — was it given in percent"):
         vapour_pressure(20.0, 55)
     with pytest.raises(SurveyError, match="percent"):
-        frsi_min(CLIMATE_T_E, [x * 100 for x in CLIMATE_RH_E], 20.0,
+        frsi_limit(CLIMATE_T_E, [x * 100 for x in CLIMATE_RH_E], 20.0,
                  IndoorHumidity("humidity_class", humidity_class=2))
     with pytest.raises(SurveyError, match="percent"):
-        frsi_min(CLIMATE_T_E, CLIMATE_RH_E, 20.0, IndoorHumidity("measured", rh=50))
+        frsi_limit(CLIMATE_T_E, CLIMATE_RH_E, 20.0, IndoorHumidity("measured", rh=50))
     with pytest.raises(SurveyError, match="fraction 0-1"):
         dew_point(20.0, -0.1)
 
@@ -320,20 +320,20 @@ def test_rh_in_percent_is_caught():
 @pytest.mark.parametrize("n", [11, 13])
 def test_monthly_arrays_need_twelve(n):
     with pytest.raises(SurveyError, match="monthly_t_e_c.*12 monthly values"):
-        frsi_min(np.zeros(n), np.full(12, 0.8), 20.0, IndoorHumidity("measured", rh=0.5))
+        frsi_limit(np.zeros(n), np.full(12, 0.8), 20.0, IndoorHumidity("measured", rh=0.5))
     with pytest.raises(SurveyError, match="monthly_rh_e"):
-        frsi_min(np.zeros(12), np.full(n, 0.8), 20.0, IndoorHumidity("measured", rh=0.5))
+        frsi_limit(np.zeros(12), np.full(n, 0.8), 20.0, IndoorHumidity("measured", rh=0.5))
 
 
 def test_missing_climate_and_indoor_colder():
     with pytest.raises(SurveyError, match="monthly_t_e_c is missing"):
-        frsi_min(None, None, 20.0, IndoorHumidity("measured", rh=0.5))
+        frsi_limit(None, None, 20.0, IndoorHumidity("measured", rh=0.5))
     with pytest.raises(SurveyError, match="rh_i is missing"):
-        frsi_min(CLIMATE_T_E, CLIMATE_RH_E, 20.0, IndoorHumidity("measured"))
+        frsi_limit(CLIMATE_T_E, CLIMATE_RH_E, 20.0, IndoorHumidity("measured"))
     with pytest.raises(SurveyError, match="indoor colder than outdoor"):
-        frsi_min(np.full(12, 25.0), np.full(12, 0.6), 20.0, IndoorHumidity("measured", rh=0.5))
+        frsi_limit(np.full(12, 25.0), np.full(12, 0.6), 20.0, IndoorHumidity("measured", rh=0.5))
     with pytest.raises(SurveyError, match="must be finite"):
-        frsi_min(np.r_[np.nan, np.zeros(11)], np.full(12, 0.8), 20.0,
+        frsi_limit(np.r_[np.nan, np.zeros(11)], np.full(12, 0.8), 20.0,
                  IndoorHumidity("measured", rh=0.5))
 
 
