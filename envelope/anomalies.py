@@ -120,7 +120,7 @@ class DefectSettings:
     cutoff_m: float = 2.0
     noise_z: float = 2.0
     ring_window_m: float = 0.03
-    tail_fraction: float = 0.01
+    tail_fraction: float = 0.005
     merge_width_factor: float = 2.0
     kinds: tuple[str, ...] = ("wall", "roof", "ceiling", "floor", "door")
     report_warm: bool = True
@@ -546,8 +546,9 @@ def find_repetition(regions, settings=DefectSettings()) -> list[list[int]]:
     width (within a factor ``1 + 2 repetition_tol``; lengths may differ, as under a gable). In each group the centroids are
     projected on the normal to the common direction and sorted; the group is a repetition
     when every gap is within ``repetition_tol`` of a whole multiple of the median gap (one
-    hidden member is allowed for) and at least ``min_repeats`` members remain. The
-    spacing is the median gap [m].
+    hidden member is allowed for), the median gap is at least twice the widest member (the
+    members stand side by side: pieces of one broken line are not a repetition) and at least
+    ``min_repeats`` members remain. The spacing is the median gap [m].
     """
     idx = [i for i, r in enumerate(regions) if r.elongation >= settings.elongated * 0.75]
     groups: list[list[int]] = []
@@ -580,6 +581,9 @@ def find_repetition(regions, settings=DefectSettings()) -> list[list[int]]:
         if not ok.all():
             continue
         s = float(np.mean([regions[j].pixel_m for j in members]))
+        widest = max(regions[j].width_m for j in members)
+        if base * s < 2.0 * widest:
+            continue  # side by side, not in a line: collinear pieces of one bridge are not studs
         for j in members:
             regions[j].repetition = len(groups)
             regions[j].spacing_m = base * s

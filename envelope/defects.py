@@ -69,6 +69,9 @@ ZONE_EXCLUDED_KINDS = ("window", "rooflight", "opening")
 Z95 = 1.959964
 """Two-sided 95 % coverage factor of the normal distribution."""
 
+ZONE_PASSES = 4
+"""Most passes of zone growth and reference flux (they stop earlier once the zones settle)."""
+
 
 @dataclass(frozen=True)
 class DepressurisedPair:
@@ -183,6 +186,7 @@ class _Group:
     kind: str  # "single", "repeating", "junction", "warm"
     seed: np.ndarray
     junction: object = None
+    along: tuple | None = None
 
 
 def _full_mask(region: Region, shape) -> np.ndarray:
@@ -279,9 +283,11 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
 
     Notes
     -----
-    Zones are grown twice: from a first reference flux (the pixels within the anomaly
-    threshold of the reference level, or the user's reference zone), then from the mean
-    over each element's undisturbed mask (mask or reference zone without every zone). The
+    Zones are grown from a first reference flux (the pixels within the anomaly threshold of
+    the reference level, or the user's reference zone), then again from the mean over each
+    element's undisturbed mask (mask or reference zone without every zone), until the zones
+    settle (at most `ZONE_PASSES` passes): the tails left in the undisturbed area bias its
+    mean upwards, which a further pass reduces. The
     extra heat is taken against the mean over the final undisturbed mask, so that without
     a user reference zone ``Σ q A (element) = q_ref A + Σ extra`` exactly (warm spots, whose
     extra is set to 0, left out of both sides).
@@ -411,13 +417,29 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     for k in range(len(cold)):
         if k not in used:
             grouped.append(_Group([k], "single", _full_mask(cold[k], shape)))
+    for g in grouped:  # a linear bridge along a junction: its run, past fragments' ends
+        cls = info[g.members[0]]["cls"]
+        if g.kind == "single" and cls == "linear thermal bridge":
+            r = cold[g.members[0]]
+            near = [j for j in r.junctions if j.distance_m <= settings.junction_m
+                    and parallel_to(r, j)]
+            g.junction = near[0] if near else None
+        if g.kind in ("single", "junction") and g.junction is not None and (
+                g.kind == "junction" or cls == "linear thermal bridge"):
+            own = np.zeros(shape, bool)
+            for k in g.members:
+                own |= elements[info[k]["el"]].mask
+            g.along, g.seed = bridges.extend_along(q, area, g.seed, labels, q_ref,
+                                                   g.junction.direction_px, valid=own,
+                                                   q_sigma_w_m2=q_sig)
     warm_seeds = [_full_mask(r, shape) for r, _ in warm]
     # ---- zones, twice, and the reference flux of each element's undisturbed area
     seeds = [g.seed for g in grouped] + warm_seeds
     grow = [True] * len(grouped) + [False] * len(warm)
     ref_notes: dict[int, str] = {}
     zones: list[bridges.Zone] = []
-    for _ in range(2):
+    for _ in range(ZONE_PASSES):
+        previous = zones
         zones = bridges.integration_zones(
             q, area, seeds, labels, q_ref, q_sig, allowed=allowed, grow=grow,
             cutoff_m=settings.cutoff_m, noise_z=settings.noise_z,
@@ -434,6 +456,9 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
                 ref_notes[i] = (f"undisturbed area of {elements[i].name} too small ({n} px "
                                 "left outside the defects' zones): reference flux from the "
                                 "pixels near the reference level instead")
+        if previous and all(a.slices == b.slices and np.array_equal(a.mask, b.mask)
+                            for a, b in zip(previous, zones, strict=True)):
+            break
     # ---- quantify and build the defects
     u_rel_of = (lambda name: u_rel_std.get(name)) if isinstance(u_rel_std, dict) else (
         lambda name: u_rel_std)
@@ -490,8 +515,8 @@ def _build(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n_ref, 
         reasons = [f"{len(members)} parallel elongated regions at a regular spacing of "
                    f"{r0.spacing_m:.2f} m (e.g. studs, rafters or ties)"] + [
             x for x in reasons if not x.startswith("one of")]
-    elif linear and junction is not None and parallel_to(r0, junction):
-        length = bridges.length_along(g.seed, junction.direction_px, pixel_m)
+    elif g.along is not None:
+        length = (g.along[3] - g.along[2]) * pixel_m
     else:
         length = float(r0.extent_m) if linear else float(r0.length_m)
     if g.kind == "junction":

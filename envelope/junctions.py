@@ -87,13 +87,25 @@ def junction_label(kind_a: str, kind_b: str) -> str:
 
 
 def _principal_direction(geom) -> tuple[float, float]:
-    """Unit vector of the principal axis of a line geometry's vertices (x, y)."""
-    pts = shapely.get_coordinates(geom)
-    if len(pts) < 2:
+    """Unit vector of the dominant direction of a line geometry (x, y).
+
+    The eigenvector of the orientation tensor ``Σ l u uᵀ`` over its segments (length l,
+    unit direction u): short side pieces do not tilt a long straight edge.
+    """
+    tensor = np.zeros((2, 2))
+    parts = getattr(geom, "geoms", [geom])
+    for part in parts:
+        pts = shapely.get_coordinates(part)
+        if len(pts) < 2:
+            continue
+        d = np.diff(pts, axis=0)
+        ln = np.hypot(d[:, 0], d[:, 1])
+        keep = ln > 0
+        u = d[keep] / ln[keep, None]
+        tensor += (u * ln[keep, None]).T @ u
+    if not np.any(tensor):
         return (1.0, 0.0)
-    d = pts - pts.mean(axis=0)
-    cov = d.T @ d
-    w, v = np.linalg.eigh(cov)
+    w, v = np.linalg.eigh(tensor)
     ux, uy = v[:, int(np.argmax(w))]
     if ux < 0 or (ux == 0 and uy < 0):
         ux, uy = -ux, -uy

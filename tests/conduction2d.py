@@ -239,19 +239,21 @@ def wall_floor_section(h: float = 0.01, length_m: float = 1.5, t_i: float = 20.0
 
 
 def corner_section(h: float = 0.01, length_m: float = 1.5, t_i: float = 20.0,
-                   t_e: float = 0.0, r_si: float = 0.13):
+                   t_e: float = 0.0, r_si: float = 0.13, insulation_m: float = 0.10):
     """Plan section of an external corner of two externally insulated masonry walls.
 
-    Wall A: masonry y in [-0.2, 0], insulation y in [-0.3, -0.2], from the corner to the
-    cut-off plane at x = `length_m`; wall B the same turned by 90°. Interior in x > 0, y > 0.
-    Surface resistances 0.13 inside, 0.04 outside (ISO 6946:2017 Table 7), or `r_si` inside.
+    Wall A: masonry y in [-0.2, 0], insulation y in [-0.2 - d, -0.2] (d = `insulation_m`),
+    from the corner to the cut-off plane at x = `length_m`; wall B the same turned by 90°.
+    Interior in x > 0, y > 0. Surface resistances 0.13 inside, 0.04 outside (ISO 6946:2017
+    Table 7), or `r_si` inside.
     """
-    x0 = y0 = -0.30 - 2 * h
+    d = 0.2 + insulation_m
+    x0 = y0 = -d - 2 * h
     n = int(round((length_m - x0) / h))
     c = x0 + (np.arange(n) + 0.5) * h
     xx, yy = np.meshgrid(c, c)
     lam = np.zeros((n, n))
-    solid = (xx > -0.3) & (yy > -0.3) & ((xx < 0) | (yy < 0))
+    solid = (xx > -d) & (yy > -d) & ((xx < 0) | (yy < 0))
     lam[solid] = INSULATION
     lam[solid & (xx > -0.2) & (yy > -0.2)] = MASONRY
     env = np.zeros((n, n), int)
@@ -259,6 +261,6 @@ def corner_section(h: float = 0.01, length_m: float = 1.5, t_i: float = 20.0,
     env[(lam == 0) & (env == 0)] = 2
     envs = {1: Environment(t_i, r_si, r_si), 2: Environment(t_e, 0.04, 0.04)}
     sol = solve(lam, env, envs, h, x0, y0)
-    u = 1.0 / (r_si + 0.20 / MASONRY + 0.10 / INSULATION + 0.04)
-    info = {"u_wall": u, "l_int": length_m, "l_ext": length_m + 0.30, "interior": 1}
+    u = 1.0 / (r_si + 0.20 / MASONRY + insulation_m / INSULATION + 0.04)
+    info = {"u_wall": u, "l_int": length_m, "l_ext": length_m + d, "interior": 1}
     return sol, info
