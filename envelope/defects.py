@@ -72,6 +72,10 @@ Z95 = 1.959964
 ZONE_PASSES = 4
 """Most passes of zone growth and reference flux (they stop earlier once the zones settle)."""
 
+MIN_UNDISTURBED_SHARE = 0.2
+"""Below this share of an element left undisturbed, its defects carry a note (tails may
+remain in the reference; measured on exponential tails in tests/test_bridges.py)."""
+
 
 @dataclass(frozen=True)
 class DepressurisedPair:
@@ -459,6 +463,13 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
         if previous and all(a.slices == b.slices and np.array_equal(a.mask, b.mask)
                             for a, b in zip(previous, zones, strict=True)):
             break
+    for i, m in und.items():
+        valid = elements[i].mask & np.isfinite(q) & np.isfinite(area)
+        share = float(area[m & valid].sum() / area[valid].sum()) if valid.any() else 0.0
+        if i not in ref_notes and share < MIN_UNDISTURBED_SHARE:
+            ref_notes[i] = (f"only {100 * share:.0f} % of {elements[i].name} lies outside the "
+                            "defects' integration zones: its undisturbed flux may still hold "
+                            "their tails, so extra heat and psi may read low")
     # ---- quantify and build the defects
     u_rel_of = (lambda name: u_rel_std.get(name)) if isinstance(u_rel_std, dict) else (
         lambda name: u_rel_std)

@@ -143,7 +143,7 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
     -------
     list of Junction
         Longest contact first. An element edge within the distance that no other outline
-        shares gives one `OUTLINE_EDGE` junction (type unknown), listed last.
+        shares gives one `OUTLINE_EDGE` junction (type unknown).
 
     Notes
     -----
@@ -187,7 +187,6 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
             distance_m=float(region_polygon.distance(contact)) * s,
             direction="horizontal" if abs(ux) >= abs(uy) else "vertical",
             contact_m=float(contact.length) * s, direction_px=(ux, uy)))
-    out.sort(key=lambda j: (-j.contact_m, j.distance_m))
     free = boundary
     for sh in shared_all:
         free = free.difference(sh.buffer(tolerance_px))
@@ -202,6 +201,7 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
             distance_m=float(region_polygon.distance(edge)) * s,
             direction="horizontal" if abs(ux) >= abs(uy) else "vertical",
             contact_m=float(edge.length) * s, direction_px=(ux, uy)))
+    out.sort(key=lambda j: (-j.contact_m, j.distance_m))
     return out
 
 
