@@ -352,9 +352,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
                               extra=frsi_dep if use_pair else None)
         sl = seg["slices"]
         if seg["reference"] is not None:
-            ref_full = np.zeros(shape, bool)
-            ref_full[sl] = seg["reference"]
-            q_ref[i], q_sig[i], _ = bridges.reference_flux(q, area, ref_full)
+            q_ref[i], q_sig[i], _ = bridges.reference_flux(q[sl], area[sl], seg["reference"])
         else:
             q_ref[i], q_sig[i], _ = bridges.reference_flux(q, area, el.mask)
         labels_el = seg["labels"]
@@ -442,30 +440,42 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     grow = [True] * len(grouped) + [False] * len(warm)
     ref_notes: dict[int, str] = {}
     zones: list[bridges.Zone] = []
+    boxes = ndimage.find_objects(labels + 1, max_label=n_el)
+    n_valid = np.bincount(labels[(labels >= 0) & np.isfinite(q)], minlength=n_el)
+    geometry = bridges.zone_geometry(seeds, area, labels, allowed, q, settings.cutoff_m)
     for _ in range(ZONE_PASSES):
         previous = zones
         zones = bridges.integration_zones(
             q, area, seeds, labels, q_ref, q_sig, allowed=allowed, grow=grow,
             cutoff_m=settings.cutoff_m, noise_z=settings.noise_z,
-            ring_window_m=settings.ring_window_m, tail_fraction=settings.tail_fraction)
-        und = bridges.undisturbed_masks({i: elements[i].mask for i in zoned}, zones,
-                                        {i: elements[i].reference_mask for i in zoned})
-        for i, m in und.items():
-            mean, sig, n = bridges.reference_flux(q, area, m)
-            valid_px = int((elements[i].mask & np.isfinite(q)).sum())
-            if n >= max(10, int(0.02 * valid_px)):
+            ring_window_m=settings.ring_window_m, tail_fraction=settings.tail_fraction,
+            geometry=geometry)
+        taken = np.zeros(shape, bool)
+        for z in zones:
+            taken[z.slices] |= z.mask
+        und = {}
+        for i in zoned:
+            bb = boxes[i]
+            if bb is None:
+                continue
+            el = elements[i]
+            ref = el.reference_mask
+            base = ref[bb] if ref is not None and ref[bb].any() else el.mask[bb]
+            und[i] = (bb, base & ~taken[bb])
+            mean, sig, n = bridges.reference_flux(q[bb], area[bb], und[i][1])
+            if n >= max(10, int(0.02 * n_valid[i])):
                 q_ref[i], q_sig[i], n_ref[i] = mean, sig, n
                 ref_notes.pop(i, None)
             else:
-                ref_notes[i] = (f"undisturbed area of {elements[i].name} too small ({n} px "
-                                "left outside the defects' zones): reference flux from the "
-                                "pixels near the reference level instead")
+                ref_notes[i] = (f"undisturbed area of {el.name} too small ({n} px left "
+                                "outside the defects' zones): reference flux from the pixels "
+                                "near the reference level instead")
         if previous and all(a.slices == b.slices and np.array_equal(a.mask, b.mask)
                             for a, b in zip(previous, zones, strict=True)):
             break
-    for i, m in und.items():
-        valid = elements[i].mask & np.isfinite(q) & np.isfinite(area)
-        share = float(area[m & valid].sum() / area[valid].sum()) if valid.any() else 0.0
+    for i, (bb, m) in und.items():
+        valid = elements[i].mask[bb] & np.isfinite(q[bb]) & np.isfinite(area[bb])
+        share = float(area[bb][m & valid].sum() / area[bb][valid].sum()) if valid.any() else 0.0
         if i not in ref_notes and share < MIN_UNDISTURBED_SHARE:
             ref_notes[i] = (f"only {100 * share:.0f} % of {elements[i].name} lies outside the "
                             "defects' integration zones: its undisturbed flux may still hold "

@@ -12,6 +12,7 @@ Pixel coordinates are ``(x, y)`` = (column, row), y down, as in `envelope.outlin
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -119,6 +120,13 @@ def _side(vec_x: float, vec_y: float) -> str:
     return "right" if vec_x > 0 else "left"
 
 
+@functools.lru_cache(maxsize=512)
+def _shared_edge(poly_el, poly_other, tolerance_px: float):
+    """Part of an element's boundary within `tolerance_px` of another outline (cached: the
+    same pair of outlines serves every region of a thermogram)."""
+    return poly_el.boundary.intersection(poly_other.buffer(tolerance_px))
+
+
 def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: float,
                    tolerance_px: float = 1.5) -> list[Junction]:
     """Junctions of a region from the outlines that meet its element's outline near it.
@@ -169,7 +177,7 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
         onet = other.polygon_net
         if onet.is_empty or onet.distance(region_polygon) > reach_px + tolerance_px:
             continue
-        shared = boundary.intersection(onet.buffer(tolerance_px))
+        shared = _shared_edge(poly_el, onet, float(tolerance_px))
         if shared.is_empty:
             continue
         shared_all.append(shared)
