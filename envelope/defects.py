@@ -105,7 +105,9 @@ class Defect:
     ``frsi_p05`` reported beside it (``risk_judged_on`` says which). ``zone`` is the
     integration zone in the full frame; ``h_w_k`` the defect's part of the heat-loss
     coefficient (psi L, chi, or for a leak the larger of its air share and its surface
-    excess); ``energy_lower_bound`` flags a leak whose air is not counted.
+    excess); ``energy_lower_bound`` flags a leak whose air is not counted;
+    ``leak_flow_natural_m3_h`` / ``leak_flow_test_m3_h`` are a leak's share of the building's
+    infiltration under natural conditions and at the pair's pressure difference [m³/h].
     """
 
     id: str
@@ -166,6 +168,8 @@ class Defect:
     psi_design_source: str = ""
     junction_verdict: str | None = None
     junction_verdict_reason: str = ""
+    leak_flow_natural_m3_h: float | None = None
+    leak_flow_test_m3_h: float | None = None
 
     @property
     def kwh_per_year(self) -> float:
@@ -233,7 +237,8 @@ def _risk(cold, f, f_design, limits, side):
 def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd_kd,
                  limits=None, settings: DefectSettings | None = None, pair=None,
                  u_rel_std=None, thermogram_id: str = "", *, frsi_design=None,
-                 junction_psi=None, leak_air_w_k=None, checks_ok: bool = True) -> list[Defect]:
+                 junction_psi=None, leak_air_w_k=None, airtightness=None,
+                 viewed_area_m2=None, checks_ok: bool = True) -> list[Defect]:
     """Find, describe, classify, group, quantify and rank the defects of one thermogram.
 
     Parameters
@@ -273,10 +278,18 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     junction_psi : dict[str, float], optional
         Specified psi by junction type [W/(m K)], internal dimensions; otherwise the
         defaults of `envelope.junctions.DEFAULT_PSI`.
+    airtightness : envelope.infiltration.Airtightness, optional
+        The blower-door result (EN ISO 9972). The building's infiltration heat loss under
+        natural conditions (`envelope.infiltration.infiltration_heat_loss`), the part of it
+        this view carries (`view_share`, by `viewed_area_m2` over the envelope area) is
+        shared among the view's leaks (`leak_shares`). Each leak also gets its air flow under
+        natural conditions and at the pair's pressure difference (power law of EN ISO 9972).
+        Without it (and without `leak_air_w_k`), leaks are flagged as lower bounds.
+    viewed_area_m2 : float, optional
+        Net area of the envelope in this view [m²] (the elements of the thermogram).
     leak_air_w_k : float, optional
-        Infiltration heat-loss coefficient the leaks of this view carry [W/K]
-        (`envelope.infiltration.view_share`), shared among them by
-        `envelope.infiltration.leak_shares`. Without it, leaks are flagged as lower bounds.
+        Instead of `airtightness`: the infiltration heat-loss coefficient the leaks of this
+        view carry [W/K].
     checks_ok : bool
         False when a survey validity check failed (junction checks cannot pass).
 
@@ -503,7 +516,24 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             leak_idx.append(len(defects))
             leak_signal.append(float(np.sum(cool[zm] * area[zm])))
         defects.append(d)
-    _leak_air(defects, leak_idx, leak_signal, leak_air_w_k, delta_t_k, hdd_kd)
+    air_notes: list[str] = []
+    h_inf = None
+    if airtightness is not None:
+        if leak_air_w_k is not None:
+            raise ValueError("give airtightness or leak_air_w_k, not both")
+        h_inf, how = infiltration.infiltration_heat_loss(airtightness)
+        leak_air_w_k, share_note = infiltration.view_share(h_inf, viewed_area_m2,
+                                                           airtightness.envelope_area_m2)
+        air_notes = [f"blower door: {how}; H = {h_inf:.1f} W/K for the building; this view: "
+                     f"{share_note}"]
+    _leak_air(defects, leak_idx, leak_signal, leak_air_w_k, delta_t_k, hdd_kd, air_notes)
+    if h_inf is not None and h_inf > 0:
+        for i in leak_idx:
+            d = defects[i]
+            d.leak_flow_natural_m3_h = d.air_h_w_k * 3600.0 / infiltration.RHO_C_AIR_J_M3K
+            if dp is not None and dp > 0:
+                d.leak_flow_test_m3_h = (infiltration.leakage_flow_at(airtightness, dp)
+                                         * d.air_h_w_k / h_inf)
     for (r, level), zone in zip(warm, zones[len(grouped):], strict=True):
         defects.append(_warm_defect(r, level, thermogram_id, zone))
     return rank_defects(defects)
@@ -603,7 +633,7 @@ def _build(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n_ref, 
         junction_verdict_reason=why)
 
 
-def _leak_air(defects, idx, signal, leak_air_w_k, delta_t_k, hdd_kd) -> None:
+def _leak_air(defects, idx, signal, leak_air_w_k, delta_t_k, hdd_kd, notes=()) -> None:
     """Give each leak its share of the view's infiltration heat loss, or flag it."""
     if not idx:
         return
@@ -620,6 +650,7 @@ def _leak_air(defects, idx, signal, leak_air_w_k, delta_t_k, hdd_kd) -> None:
         d.h_w_k = max(float(share), surface)
         d.annual_kwh_air = float(share) * hdd_kd * 24.0 / 1000.0
         d.annual_kwh = d.h_w_k * hdd_kd * 24.0 / 1000.0
+        d.notes += list(notes)
         d.notes.append(
             f"air: {share:.2f} W/K of the infiltration heat loss (share by the cooling the "
             f"pressure difference draws over the leak's zone); the surface excess "

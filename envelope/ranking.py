@@ -95,6 +95,8 @@ def defect_to_dict(d) -> dict:
         "h_w_k": _num(d.h_w_k), "air_h_w_k": _num(d.air_h_w_k),
         "annual_kwh": _num(d.annual_kwh), "kwh_per_year": _num(d.annual_kwh),
         "annual_kwh_air": _num(d.annual_kwh_air), "energy_lower_bound": bool(d.energy_lower_bound),
+        "leak_flow_natural_m3_h": _num(d.leak_flow_natural_m3_h),
+        "leak_flow_test_m3_h": _num(d.leak_flow_test_m3_h),
         "frsi_min": _num(d.frsi_min), "frsi_p05": _num(d.frsi_p05),
         "frsi_design_min": _num(d.frsi_design_min), "frsi_design_p05": _num(d.frsi_design_p05),
         "risk": d.risk, "risk_judged_on": d.risk_judged_on,

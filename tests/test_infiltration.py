@@ -133,6 +133,19 @@ def test_leak_energy_with_a_blower_door_result(leak_scene):
     assert lb.energy_lower_bound and LOWER_BOUND_NOTE in lb.notes
     assert lb.annual_kwh == pytest.approx(lb.extra_w / (T_AI - T_AE) * HDD * 24 / 1000)
     assert lb.annual_kwh < d.annual_kwh
+    # the same from the blower-door result itself: flows by hand, 1.25 W/K of air is
+    # 1.25 * 3600 / 1200 = 3.75 m³/h under natural conditions; at the pair's 50 Pa the
+    # building passes n50 V = 2400 m³/h, of which the leak's share 1.25 / 50: 60 m³/h
+    d2 = _leak(find_defects(t, f, q, area, regions, "interior", T_AI - T_AE, HDD,
+                            pair=DepressurisedPair(t_dep, 50.0), airtightness=at,
+                            viewed_area_m2=9.0))
+    assert d2.annual_kwh == pytest.approx(75.0, rel=1e-9)
+    assert d2.leak_flow_natural_m3_h == pytest.approx(3.75, rel=1e-9)
+    assert d2.leak_flow_test_m3_h == pytest.approx(60.0, rel=1e-9)
+    assert any("Sherman (1987)" in n for n in d2.notes)
+    with pytest.raises(ValueError, match="not both"):
+        find_defects(t, f, q, area, regions, "interior", T_AI - T_AE, HDD,
+                     pair=DepressurisedPair(t_dep, 50.0), airtightness=at, leak_air_w_k=1.0)
     # other defects are untouched by the leak's air
     others = [x for x in found if x.defect_class != "air leakage"]
     assert all(not x.energy_lower_bound and x.air_h_w_k is None for x in others)
