@@ -1,9 +1,11 @@
 """Defects: classification, quantification and ranking of thermal anomalies.
 
-Segmentation and shape description live in `envelope.anomalies`, junction types in
-`envelope.junctions`, the excess-heat integration in `envelope.bridges`, image pairs in
-`envelope.registration` and the air of leaks in `envelope.infiltration`. This module turns
-the described regions of one thermogram into `Defect` records:
+Segmentation and shape description live in `envelope.anomalies`, the class rules in
+`envelope.classification`, junction types and runs in `envelope.junctions`, the
+excess-heat integration in `envelope.bridges`, the numbers of one defect in
+`envelope.quantify`, image pairs in `envelope.registration`, the air of leaks in
+`envelope.infiltration` and the ranking in `envelope.ranking`. This module runs them on the
+described regions of one thermogram and returns `Defect` records:
 
 - **classification** by a transparent rule set (`classify`): every rule that fires adds a
   score to a class and a sentence with its numbers to ``reasons``; the confidences are the
@@ -25,9 +27,6 @@ so that the pipeline can build one undisturbed mask per element (`undisturbed_ma
 
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass, field
-
 import numpy as np
 import shapely
 from scipy import ndimage
@@ -42,8 +41,17 @@ from envelope.anomalies import (
 )
 from envelope.classification import CLASSES, classify, parallel_to
 from envelope.errors import SurveyError
-from envelope.junctions import OUTLINE_EDGE, default_psi, junction_groups, junction_verdict
+from envelope.junctions import extend_along, junction_groups
 from envelope.outlines import rasterise
+from envelope.quantify import (
+    Defect,
+    DepressurisedPair,
+    Group,
+    apply_leak_air,
+    build_defect,
+    full_mask,
+    warm_defect,
+)
 from envelope.ranking import RISK_SCORES, defect_to_dict, rank_defects
 from envelope.registration import align, pair_change, register_translation
 
@@ -61,13 +69,8 @@ __all__ = [
     "defect_to_dict",
 ]
 
-WARM_NOTE = "warmer than reference: likely reflection or heat source"
-
 ZONE_EXCLUDED_KINDS = ("window", "rooflight", "opening")
 """Element kinds an integration zone never enters (glazing has its own flux pattern)."""
-
-Z95 = 1.959964
-"""Two-sided 95 % coverage factor of the normal distribution."""
 
 ZONE_PASSES = 4
 """Most passes of zone growth and reference flux (they stop earlier once the zones settle)."""
@@ -77,106 +80,6 @@ MIN_UNDISTURBED_SHARE = 0.2
 remain in the reference; measured on exponential tails in tests/test_bridges.py)."""
 
 
-@dataclass(frozen=True)
-class DepressurisedPair:
-    """Second thermogram of the same view under a building pressure difference.
-
-    Attributes
-    ----------
-    t_s_c : ndarray
-        Corrected surface temperatures of the depressurised image [°C].
-    pressure_difference_pa : float
-        Indoor–outdoor pressure difference during the image [Pa] (≥ 5 Pa per EN 13187;
-        50 Pa is common practice).
-    """
-
-    t_s_c: np.ndarray
-    pressure_difference_pa: float
-
-
-@dataclass
-class Defect:
-    """One defect found on a thermogram, with its class, numbers and ranking score.
-
-    Units: areas [m²], lengths [m], heat flows [W], psi [W/(m K)], chi and heat-loss
-    coefficients [W/K], energy [kWh/yr], pixel coordinates ``(x, y)`` in the thermogram.
-    psi is with internal dimensions (``psi_dimensions``) over ``length_m``. ``risk`` is
-    judged on ``frsi_design_p05`` (design convention) when it is known, the measured
-    ``frsi_p05`` reported beside it (``risk_judged_on`` says which). ``zone`` is the
-    integration zone in the full frame; ``h_w_k`` the defect's part of the heat-loss
-    coefficient (psi L, chi, or for a leak the larger of its air share and its surface
-    excess); ``energy_lower_bound`` flags a leak whose air is not counted;
-    ``leak_flow_natural_m3_h`` / ``leak_flow_test_m3_h`` are a leak's share of the building's
-    infiltration under natural conditions and at the pair's pressure difference [m³/h].
-    """
-
-    id: str
-    thermogram: str
-    element: str
-    defect_class: str
-    confidence: dict[str, float]
-    reasons: list[str]
-    area_m2: float
-    length_m: float
-    width_m: float
-    orientation_deg: float
-    junction: str | None
-    extra_w: float
-    extra_w_std: float
-    psi_w_mk: float | None
-    chi_w_k: float | None
-    incidence_factor: float
-    annual_kwh: float
-    frsi_min: float
-    frsi_p05: float
-    risk: str
-    score_risk: int
-    score_energy_kwh: float
-    rank: int
-    centroid_px: tuple[float, float]
-    bbox_px: tuple[float, float, float, float]
-    polygon: object = field(repr=False, default=None)
-    notes: list[str] = field(default_factory=list)
-    junction_element: str | None = None
-    edge_distance_m: float = math.nan
-    spacing_m: float | None = None
-    elongation: float = math.nan
-    solidity: float = math.nan
-    pressure_difference_pa: float | None = None
-    cooling_k: float | None = None
-    score_text: str = ""
-    count: int = 1
-    frsi_design_min: float = math.nan
-    frsi_design_p05: float = math.nan
-    risk_judged_on: str = "design convention"
-    psi_std_w_mk: float | None = None
-    chi_std_w_k: float | None = None
-    psi_dimensions: str = "internal"
-    elements: tuple[str, ...] = ()
-    extra_by_element_w: dict[str, float] = field(default_factory=dict)
-    reference_flux_w_m2: dict[str, float] = field(default_factory=dict)
-    zone: bridges.Zone | None = field(repr=False, default=None)
-    integration_distance_m: float = math.nan
-    integration_stop: str = ""
-    zone_area_m2: float = math.nan
-    incidence_area_m2: float = math.nan
-    h_w_k: float = math.nan
-    air_h_w_k: float | None = None
-    annual_kwh_air: float | None = None
-    energy_lower_bound: bool = False
-    psi_design_w_mk: float | None = None
-    psi_design_source: str = ""
-    junction_verdict: str | None = None
-    junction_verdict_reason: str = ""
-    leak_flow_natural_m3_h: float | None = None
-    leak_flow_test_m3_h: float | None = None
-
-    @property
-    def kwh_per_year(self) -> float:
-        """Old name of `annual_kwh` (results schema v1)."""
-        return self.annual_kwh
-
-
 def _pair_args(pair):
     if pair is None:
         return None, None
@@ -184,54 +87,6 @@ def _pair_args(pair):
         return np.asarray(pair.t_s_c, float), float(pair.pressure_difference_pa)
     t, dp = pair
     return np.asarray(t, float), float(dp)
-
-
-@dataclass
-class _Group:
-    """Regions that become one defect, before quantification."""
-
-    members: list[int]
-    kind: str  # "single", "repeating", "junction", "warm"
-    seed: np.ndarray
-    junction: object = None
-    along: tuple | None = None
-
-
-def _full_mask(region: Region, shape) -> np.ndarray:
-    m = np.zeros(shape, dtype=bool)
-    m[region.slices] = region.mask
-    return m
-
-
-def _stats(values) -> tuple[float, float]:
-    v = np.asarray(values, float)
-    v = v[np.isfinite(v)]
-    return (float(v.min()), float(np.percentile(v, 5))) if v.size else (math.nan, math.nan)
-
-
-def _judge(p05, limits):
-    f_mould, f_cond = limits
-    if f_cond is not None and p05 < f_cond:
-        return "condensation"
-    if f_mould is not None and p05 < f_mould:
-        return "mould"
-    return "none"
-
-
-def _risk(cold, f, f_design, limits, side):
-    """(risk, judged_on, measured min/p05, design min/p05, note) over the cold pixels."""
-    fmin, fp05 = _stats(f[cold])
-    dmin, dp05 = _stats(f_design[cold]) if f_design is not None else (math.nan, math.nan)
-    if side != "interior" or limits is None or all(v is None for v in limits):
-        return "not assessed", "", fmin, fp05, dmin, dp05, None
-    if math.isfinite(dp05):
-        risk = _judge(dp05, limits)
-        note = (f"fRsi at the design convention (Rsi 0.25 m²K/W) p05 {dp05:.3f}, measured on "
-                f"the night {fp05:.3f}; judged on the design convention")
-        return risk, "design convention", fmin, fp05, dmin, dp05, note
-    note = ("no design-convention factor given: risk judged on the measured-night fRsi "
-            f"p05 {fp05:.3f}, which reads higher than the convention (not conservative)")
-    return _judge(fp05, limits), "measured night", fmin, fp05, dmin, dp05, note
 
 
 def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd_kd,
@@ -400,7 +255,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             info.append({"el": i, "cls": cls, "conf": conf, "reasons": reasons,
                          "notes": notes, "change": change})
     # ---- groups: repetitions, junctions, singles, warm spots
-    grouped: list[_Group] = []
+    grouped: list[Group] = []
     used: set[int] = set()
     reps: dict[tuple, list[int]] = {}
     for k, (r, d) in enumerate(zip(cold, info, strict=True)):
@@ -410,8 +265,8 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
         if len(members) >= 2:
             seed = np.zeros(shape, bool)
             for k in members:
-                seed |= _full_mask(cold[k], shape)
-            grouped.append(_Group(members, "repeating", seed))
+                seed |= full_mask(cold[k], shape)
+            grouped.append(Group(members, "repeating", seed))
             used.update(members)
     classes = [d["cls"] if k not in used else "repeating thermal bridge"
                for k, d in enumerate(info)]
@@ -426,12 +281,12 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             within |= elements[info[k]["el"]].mask
         seed = rasterise(hull, shape) & within
         for k in members:
-            seed |= _full_mask(cold[k], shape)
-        grouped.append(_Group(members, "junction", seed, j))
+            seed |= full_mask(cold[k], shape)
+        grouped.append(Group(members, "junction", seed, j))
         used.update(members)
     for k in range(len(cold)):
         if k not in used:
-            grouped.append(_Group([k], "single", _full_mask(cold[k], shape)))
+            grouped.append(Group([k], "single", full_mask(cold[k], shape)))
     for g in grouped:  # a linear bridge along a junction: its run, past fragments' ends
         cls = info[g.members[0]]["cls"]
         if g.kind == "single" and cls == "linear thermal bridge":
@@ -444,10 +299,10 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             own = np.zeros(shape, bool)
             for k in g.members:
                 own |= elements[info[k]["el"]].mask
-            g.along, g.seed = bridges.extend_along(q, area, g.seed, labels, q_ref,
+            g.along, g.seed = extend_along(q, area, g.seed, labels, q_ref,
                                                    g.junction.direction_px, valid=own,
                                                    q_sigma_w_m2=q_sig)
-    warm_seeds = [_full_mask(r, shape) for r, _ in warm]
+    warm_seeds = [full_mask(r, shape) for r, _ in warm]
     # ---- zones, twice, and the reference flux of each element's undisturbed area
     seeds = [g.seed for g in grouped] + warm_seeds
     grow = [True] * len(grouped) + [False] * len(warm)
@@ -503,7 +358,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     leak_idx: list[int] = []
     leak_signal: list[float] = []
     for g, zone in zip(grouped, zones[:len(grouped)], strict=True):
-        d = _build(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n_ref,
+        d = build_defect(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n_ref,
                    in_view, f, fd, limits, side, delta_t_k, hdd_kd, settings, u_rel_of,
                    thermogram_id, dp, junction_psi, checks_ok)
         d.notes += [ref_notes[i] for i in sorted(ref_notes)
@@ -526,7 +381,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
                                                            airtightness.envelope_area_m2)
         air_notes = [f"blower door: {how}; H = {h_inf:.1f} W/K for the building; this view: "
                      f"{share_note}"]
-    _leak_air(defects, leak_idx, leak_signal, leak_air_w_k, delta_t_k, hdd_kd, air_notes)
+    apply_leak_air(defects, leak_idx, leak_signal, leak_air_w_k, delta_t_k, hdd_kd, air_notes)
     if h_inf is not None and h_inf > 0:
         for i in leak_idx:
             d = defects[i]
@@ -535,147 +390,8 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
                 d.leak_flow_test_m3_h = (infiltration.leakage_flow_at(airtightness, dp)
                                          * d.air_h_w_k / h_inf)
     for (r, level), zone in zip(warm, zones[len(grouped):], strict=True):
-        defects.append(_warm_defect(r, level, thermogram_id, zone))
+        defects.append(warm_defect(r, level, thermogram_id, zone))
     return rank_defects(defects)
-
-
-def _build(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n_ref, in_view, f,
-           fd, limits, side, delta_t_k, hdd_kd, settings, u_rel_of, thermogram_id, dp,
-           junction_psi, checks_ok) -> Defect:
-    """Quantify one group of regions into a `Defect`."""
-    shape = q.shape
-    members = [cold[k] for k in g.members]
-    primary_k = max(g.members, key=lambda k: cold[k].area_m2)
-    r0, d0 = cold[primary_k], info[primary_k]
-    el = elements[d0["el"]]
-    ex = bridges.excess_heat(q, area, zone, labels, q_ref, q_sig, n_ref, u_rel_of(el.name))
-    by = {elements[i].name: v for i, v in ex["extra_by_label"].items()}
-    touched = sorted(ex["area_by_label"])
-    inc, inc_area = bridges.incidence_factor(ex["extra_w"], q_ref[touched], in_view[touched])
-    area_m2 = float(sum(r.area_m2 for r in members))
-    pixel_m = float(np.mean([r.pixel_m for r in members]))
-    cls = {"repeating": "repeating thermal bridge", "junction": "linear thermal bridge"}.get(
-        g.kind, d0["cls"])
-    linear = cls in ("linear thermal bridge", "repeating thermal bridge")
-    near = [j for j in r0.junctions if j.distance_m <= settings.junction_m]
-    junction = g.junction if g.junction is not None else (near[0] if near else None)
-    reasons = list(d0["reasons"])
-    notes = list(dict.fromkeys(n for k in g.members for n in info[k]["notes"]))
-    if g.kind == "repeating":
-        length = float(sum(r.extent_m for r in members))
-        reasons = [f"{len(members)} parallel elongated regions at a regular spacing of "
-                   f"{r0.spacing_m:.2f} m (e.g. studs, rafters or ties)"] + [
-            x for x in reasons if not x.startswith("one of")]
-    elif g.along is not None:
-        length = (g.along[3] - g.along[2]) * pixel_m
-    else:
-        length = float(r0.extent_m) if linear else float(r0.length_m)
-    if g.kind == "junction":
-        names = list(dict.fromkeys(elements[info[k]["el"]].name for k in g.members))
-        reasons.insert(0, f"{len(members)} fragments along the {junction.kind} junction "
-                          f"({' and '.join(names)}) merged into one bridge")
-    dt = delta_t_k
-    psi = ex["extra_w"] / (dt * length) if linear and length > 0 else None
-    psi_std = ex["extra_w_std"] / (dt * length) if psi is not None else None
-    chi = None if linear else ex["extra_w"] / dt
-    cold_px = np.zeros(shape, bool)
-    for r in members:
-        cold_px[r.slices] |= r.mask
-    risk, judged, fmin, fp05, dmin, dp05, rnote = _risk(cold_px, f, fd, limits, side)
-    if rnote:
-        notes.append(rnote)
-    jkind = None if junction is None or junction.kind == OUTLINE_EDGE else junction.kind
-    if junction is not None and junction.kind == OUTLINE_EDGE:
-        notes.append("runs along an edge of the outline with no neighbouring outline: junction "
-                     "type unknown (outline the neighbouring element to name it)")
-    psi_design, source, verdict, why = None, "", None, ""
-    if cls == "linear thermal bridge" and psi is not None:
-        psi_design, source = default_psi(jkind, junction_psi)
-        verdict, why = junction_verdict(psi - Z95 * psi_std, psi + Z95 * psi_std,
-                                        psi_design, checks_ok=checks_ok)
-        if psi_design is None:
-            why = f"{source}; {why}"
-    if linear:
-        notes.append(f"psi with internal dimensions over {length:.2f} m along the junction")
-    if cls == "air leakage":
-        notes.append("extra heat flow is the conductive surface excess at survey conditions")
-    polys = [r.polygon for r in members if r.polygon is not None]
-    poly = polys[0] if len(polys) == 1 else (shapely.union_all(polys) if polys else None)
-    cx = sum(r.centroid_px[0] * r.area_m2 for r in members) / area_m2
-    cy = sum(r.centroid_px[1] * r.area_m2 for r in members) / area_m2
-    h = ex["extra_w"] / dt
-    change = d0["change"]
-    return Defect(
-        id="", thermogram=thermogram_id, element=el.name, defect_class=cls,
-        confidence=d0["conf"], reasons=reasons, area_m2=area_m2, length_m=length,
-        width_m=area_m2 / length if g.kind == "junction" and length > 0 else r0.width_m,
-        orientation_deg=r0.orientation_deg, junction=jkind, extra_w=ex["extra_w"],
-        extra_w_std=ex["extra_w_std"], psi_w_mk=psi, chi_w_k=chi, incidence_factor=inc,
-        annual_kwh=h * hdd_kd * 24.0 / 1000.0, frsi_min=fmin, frsi_p05=fp05, risk=risk,
-        score_risk=0, score_energy_kwh=0.0, rank=0, centroid_px=(cx, cy),
-        bbox_px=(min(r.bbox_px[0] for r in members), min(r.bbox_px[1] for r in members),
-                 max(r.bbox_px[2] for r in members), max(r.bbox_px[3] for r in members)),
-        polygon=poly, notes=notes,
-        junction_element=None if junction is None or junction.name.startswith("edge:")
-        else junction.name,
-        edge_distance_m=min(r.edge_distance_m for r in members),
-        spacing_m=r0.spacing_m if g.kind == "repeating" else None,
-        elongation=r0.elongation, solidity=r0.solidity, pressure_difference_pa=dp,
-        cooling_k=None if change is None else change.cooling_k,
-        count=len(members) if g.kind == "repeating" else 1,
-        frsi_design_min=dmin, frsi_design_p05=dp05, risk_judged_on=judged,
-        psi_std_w_mk=psi_std, chi_std_w_k=None if chi is None else ex["extra_w_std"] / dt,
-        elements=tuple(elements[i].name for i in touched), extra_by_element_w=by,
-        reference_flux_w_m2={elements[i].name: float(q_ref[i]) for i in touched},
-        zone=zone, integration_distance_m=zone.distance_m, integration_stop=zone.stop,
-        zone_area_m2=ex["zone_area_m2"], incidence_area_m2=inc_area, h_w_k=h,
-        psi_design_w_mk=psi_design, psi_design_source=source, junction_verdict=verdict,
-        junction_verdict_reason=why)
-
-
-def _leak_air(defects, idx, signal, leak_air_w_k, delta_t_k, hdd_kd, notes=()) -> None:
-    """Give each leak its share of the view's infiltration heat loss, or flag it."""
-    if not idx:
-        return
-    if leak_air_w_k is None:
-        for i in idx:
-            defects[i].energy_lower_bound = True
-            defects[i].notes.append(infiltration.LOWER_BOUND_NOTE)
-        return
-    shares = infiltration.leak_shares(float(leak_air_w_k), signal)
-    for i, share in zip(idx, shares, strict=True):
-        d = defects[i]
-        surface = d.extra_w / delta_t_k
-        d.air_h_w_k = float(share)
-        d.h_w_k = max(float(share), surface)
-        d.annual_kwh_air = float(share) * hdd_kd * 24.0 / 1000.0
-        d.annual_kwh = d.h_w_k * hdd_kd * 24.0 / 1000.0
-        d.notes += list(notes)
-        d.notes.append(
-            f"air: {share:.2f} W/K of the infiltration heat loss (share by the cooling the "
-            f"pressure difference draws over the leak's zone); the surface excess "
-            f"{surface:.2f} W/K is part of the same heat (the wall warms the incoming air), "
-            f"so the larger of the two is counted")
-
-
-def _warm_defect(region, level, thermogram_id, zone):
-    reasons = [f"warmer than the reference level (fRsi {region.frsi_mean:.2f} against "
-               f"{level:.2f})"]
-    conf = dict.fromkeys(CLASSES, 0.0)
-    conf["unexplained"] = 1.0
-    return Defect(
-        id="", thermogram=thermogram_id, element=region.element, defect_class="unexplained",
-        confidence=conf, reasons=reasons, area_m2=region.area_m2, length_m=region.length_m,
-        width_m=region.width_m, orientation_deg=region.orientation_deg, junction=None,
-        extra_w=0.0, extra_w_std=0.0, psi_w_mk=None, chi_w_k=None, incidence_factor=math.nan,
-        annual_kwh=0.0, frsi_min=region.frsi_min, frsi_p05=region.frsi_p05, risk="none",
-        score_risk=0, score_energy_kwh=0.0, rank=0, centroid_px=region.centroid_px,
-        bbox_px=region.bbox_px, polygon=region.polygon,
-        notes=[WARM_NOTE, "left out of the element's undisturbed area and of its heat flow"],
-        edge_distance_m=region.edge_distance_m, elongation=region.elongation,
-        solidity=region.solidity, elements=(region.element,), zone=zone,
-        integration_distance_m=0.0, integration_stop=zone.stop,
-        zone_area_m2=region.area_m2, h_w_k=0.0, risk_judged_on="")
 
 
 def undisturbed_mask(element_region, defects, shape=None) -> np.ndarray:

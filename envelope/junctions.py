@@ -1,4 +1,5 @@
-"""Junctions: their type from the element outlines, default psi values, checks against design.
+"""Junctions: their type from the element outlines, a bridge's run along one, default psi
+values and checks against design.
 
 A cold region sits at a junction when the outline of its element meets the outline of
 another element along it. The type comes from the kinds of the two elements whose outlines
@@ -19,6 +20,8 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
+from envelope import bridges
+
 __all__ = [
     "OPENING_KINDS",
     "OUTLINE_EDGE",
@@ -29,6 +32,9 @@ __all__ = [
     "default_psi",
     "junction_verdict",
     "junction_groups",
+    "span_along",
+    "extend_along",
+    "length_along",
 ]
 
 OPENING_KINDS = ("window", "door", "opening", "rooflight")
@@ -359,3 +365,145 @@ def junction_groups(regions, classes, junction_m: float, width_factor: float = 2
             if _width_across(r, keyed[i][1]) <= width_factor * widest:
                 members.append(i)
     return [(sorted(m), j) for m, j in groups.values() if len(m) >= 2]
+
+
+# ------------------------------------------------------------ a bridge's run along its junction
+def span_along(mask, direction_px=(1.0, 0.0)) -> tuple[float, float, float, float]:
+    """``(ux, uy, lo, hi)``: unit direction and the span of a full-frame mask's pixels along it
+    [px], pixel edges included (half a pixel beyond the extreme centres)."""
+    rows, cols = bridges._nonzero(np.asarray(mask, bool))
+    ux, uy = (float(v) for v in direction_px)
+    n = math.hypot(ux, uy)
+    if n == 0:
+        raise ValueError("direction_px must not be the zero vector")
+    ux, uy = ux / n, uy / n
+    if rows.size == 0:
+        return ux, uy, 0.0, -1.0
+    proj = (cols + 0.5) * ux + (rows + 0.5) * uy
+    return ux, uy, float(proj.min()) - 0.5, float(proj.max()) + 0.5
+
+
+def extend_along(q_w_m2, area_map_m2, seed, labels, q_ref_w_m2, direction_px, valid=None,
+                 q_sigma_w_m2=None, fraction: float = 0.5, window_m: float = 0.05,
+                 noise_z: float = 2.0):
+    """A linear bridge's run along its junction, from its seed (fragments may miss its ends).
+
+    Parameters
+    ----------
+    q_w_m2, area_map_m2 : ndarray (H, W)
+    seed : bool (H, W)
+        The bridge's seed (its fragments and the gaps between them).
+    labels, q_ref_w_m2 : as in `envelope.bridges.integration_zones`
+    direction_px : (ux, uy)
+        Direction of the junction in pixel coordinates.
+    valid : bool (H, W), optional
+        Pixels the run may extend over (the bridge's elements).
+    q_sigma_w_m2 : array_like, optional
+        Pixel spread of q per element index [W/m²] (noise of the profile).
+    fraction : float
+        The run goes on while the excess along the line stays at least this fraction of the
+        seed's (and above the noise).
+    window_m : float
+        Length of the moving window along the line [m].
+
+    Returns
+    -------
+    (span, band)
+        ``span = (ux, uy, lo, hi)`` (`span_along` of the run) and ``band``, the pixels across
+        the seed's width over the whole run (bool (H, W)), which extend the seed.
+
+    Notes
+    -----
+    Over the band of pixels whose projection across the junction lies within the seed's,
+    the area-weighted mean excess is profiled along the junction (1-px bins). From each end
+    of the seed's span the run extends while a window of `window_m` keeps a mean excess of
+    at least ``max(fraction ē_seed, noise_z σ_ē)``: through a bridge that goes on but broke
+    up under the threshold, not past a bridge's real end (where the excess drops within a
+    few centimetres).
+    """
+    q, a = bridges._check_maps(q_w_m2, area_map_m2)
+    seed = np.asarray(seed, bool)
+    labels = np.asarray(labels, dtype=int)
+    ux, uy, lo, hi = span_along(seed, direction_px)
+    if hi < lo:
+        return (ux, uy, lo, hi), seed.copy()
+    nx, ny = -uy, ux
+    rows, cols = bridges._nonzero(seed)
+    across = (cols + 0.5) * nx + (rows + 0.5) * ny
+    a_lo, a_hi = float(across.min()) - 0.5, float(across.max()) + 0.5
+    region = (labels >= 0) if valid is None else np.asarray(valid, bool)
+    box = bridges._box_of(region | seed)
+    region = region[box] | seed[box]
+    rr, cc = np.mgrid[box]
+    acr = (cc + 0.5) * nx + (rr + 0.5) * ny
+    alg = (cc + 0.5) * ux + (rr + 0.5) * uy
+    q, a, labels = q[box], a[box], labels[box]
+    ok = region & (labels >= 0) & np.isfinite(q) & np.isfinite(a) & (acr >= a_lo) & (acr <= a_hi)
+    q_ref = np.asarray(q_ref_w_m2, dtype=float).ravel()
+    lab = np.where(labels >= 0, labels, 0)
+    exc = q - q_ref[lab]
+    base = float(np.floor(alg[ok].min())) if ok.any() else lo
+    b = np.floor(alg - base).astype(np.int64)
+    nb = int(b[ok].max()) + 1 if ok.any() else 0
+    if nb == 0:
+        return (ux, uy, lo, hi), seed.copy()
+    s_a = np.bincount(b[ok], weights=a[ok], minlength=nb)
+    s_e = np.bincount(b[ok], weights=(exc * a)[ok], minlength=nb)
+    if q_sigma_w_m2 is not None:
+        sg = np.asarray(q_sigma_w_m2, dtype=float).ravel()
+        sgv = np.where(np.isfinite(sg), sg, 0.0)[lab]
+        s_v = np.bincount(b[ok], weights=(sgv**2 * a**2)[ok], minlength=nb)
+    else:
+        s_v = np.zeros(nb)
+    b_lo = max(int(np.floor(lo - base + 0.5)), 0)
+    b_hi = min(int(np.floor(hi - base - 0.5)), nb - 1)
+    a_seed = s_a[b_lo:b_hi + 1].sum()
+    level = float(s_e[b_lo:b_hi + 1].sum() / a_seed) if a_seed > 0 else math.nan
+    if not level > 0:
+        return (ux, uy, lo, hi), seed.copy()
+    pix = float(np.sqrt(np.nanmedian(a[ok])))
+    w = max(1, int(round(window_m / pix)))
+
+    def keeps(i0: int, i1: int) -> bool:
+        i0, i1 = max(i0, 0), min(i1, nb)
+        aw = s_a[i0:i1].sum()
+        if i1 <= i0 or aw <= 0:
+            return False
+        mean = s_e[i0:i1].sum() / aw
+        return mean >= max(fraction * level, noise_z * math.sqrt(s_v[i0:i1].sum()) / aw)
+
+    up = b_hi
+    while up + 1 < nb and keeps(up + 1, up + 1 + w):
+        up += 1
+    down = b_lo
+    while down - 1 >= 0 and keeps(down - w, down):
+        down -= 1
+    lo2, hi2 = base + down, base + up + 1
+    band = seed.copy()
+    band[box] |= ok & (alg >= lo2) & (alg <= hi2)
+    return (ux, uy, min(lo, lo2), max(hi, hi2)), band
+
+
+def length_along(mask, direction_px=(1.0, 0.0), pixel_m: float = 1.0,
+                 offset=(0, 0)) -> float:
+    """Extent of a pixel mask along a direction [m]: (max - min projection + 1 px) × size.
+
+    Parameters
+    ----------
+    mask : bool ndarray
+    direction_px : (ux, uy)
+        Direction in pixel coordinates (x = column, y = row); normalised here.
+    pixel_m : float
+        Pixel size [m].
+    offset : (row, col)
+        Position of ``mask[0, 0]`` in the full frame (does not change the extent).
+    """
+    rows, cols = bridges._nonzero(np.asarray(mask, bool))
+    if rows.size == 0:
+        return 0.0
+    ux, uy = (float(v) for v in direction_px)
+    n = math.hypot(ux, uy)
+    if n == 0:
+        raise ValueError("direction_px must not be the zero vector")
+    proj = (cols + offset[1] + 0.5) * ux / n + (rows + offset[0] + 0.5) * uy / n
+    return float((proj.max() - proj.min() + 1.0) * pixel_m)
