@@ -86,7 +86,7 @@ class DefectSettings:
     cutoff_m : float
         Farthest distance from a defect's seed over which its excess heat flux is
         integrated [m] (`envelope.bridges.integration_zones`); at least the 1 m of the
-        cut-off planes of ISO 10211:2017 §5.2.2. Integration usually stops earlier, where the
+        cut-off planes of ISO 10211:2017. Integration usually stops earlier, where the
         excess falls to the noise level.
     noise_z : float
         The excess of a ring of pixels counts as noise when it is within ``noise_z``

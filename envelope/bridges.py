@@ -25,7 +25,8 @@ References
     in-situ method of assessing heat loss through thermal bridging", Energy and Buildings
     135 (2017) 20–32, doi:10.1016/j.enbuild.2016.11.039.
 [2] ISO 10211:2017, Thermal bridges in building construction -- Heat flows and surface
-    temperatures -- Detailed calculations, §5.2 (cut-off planes) and §10 (psi).
+    temperatures -- Detailed calculations (cut-off planes; psi = L2D - Σ U_j l_j; clause
+    numbers from memory, so not given).
 [3] ISO 14683:2017, Thermal bridges in building construction -- Linear thermal
     transmittance -- Simplified methods and default values (dimension systems).
 [4] F. Asdrubali, G. Baldinelli and F. Bianchi, "A quantitative methodology to evaluate
@@ -416,7 +417,7 @@ def excess_heat(q_w_m2, area_map_m2, zone, labels, q_ref_w_m2, q_sigma_w_m2=None
 
     Notes
     -----
-    ``Q_extra = Σ_Z (q - q_ref,j) A`` (Eq. 4 of [1] with each element's own reference).
+    ``Q_extra = Σ_Z (q - q_ref,j) A`` (after [1], with each element's own reference).
     Uncertainty, added in quadrature: pixel noise ``sqrt(Σ σ_j² A²)``; the reference
     means ``σ_j A_Z,j / sqrt(N_j)`` per element; the common relative part
     ``u_rel |Q_extra|``. Pixels are taken as independent (spatially correlated texture
@@ -467,7 +468,7 @@ def incidence_factor(extra_w: float, q_ref_w_m2, area_m2) -> tuple[float, float]
     Returns
     -------
     (incidence_factor, area_m2)
-        ``I = Q_tb / Q_1D = (Σ q_1D,j A_j + Q_extra) / Σ q_1D,j A_j`` [-] (Eq. 1 of [4]:
+        ``I = Q_tb / Q_1D = (Σ q_1D,j A_j + Q_extra) / Σ q_1D,j A_j`` [-] (the definition of [4]:
         the heat flow through the area with the bridge over the heat flow without it) and
         the area it refers to [m²]. The factor depends on that area, so both are reported;
         other defects on the same area are not counted in this one's factor.
@@ -498,7 +499,7 @@ def psi_internal_to_external(psi_int_w_mk: float, u_w_m2k, extra_length_m) -> fl
 
     Notes
     -----
-    ``L2D = psi_e + Σ U_j l_j,e = psi_i + Σ U_j l_j,i`` ([2] §10, the dimension systems of
+    ``L2D = psi_e + Σ U_j l_j,e = psi_i + Σ U_j l_j,i`` ([2], the dimension systems of
     [3]), so ``psi_e = psi_i - Σ U_j (l_j,e - l_j,i)``.
     """
     u = np.asarray(u_w_m2k, dtype=float).ravel()

@@ -456,7 +456,7 @@ def assess_frsi(frsi_values, limit_mould: FrsiLimit, limit_condensation: FrsiLim
 
     References
     ----------
-    [1] ISO 13788:2012, §4.2.3 and §5.
+    [1] ISO 13788:2012, §4 (surface resistances for the temperature factor; clause from memory) and §5.
     """
     f = _finite(frsi_values)
     if f.size == 0:

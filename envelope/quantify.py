@@ -176,7 +176,7 @@ def judge_risk(cold, f, f_design, limits, side):
     f_design_p05, note)``.
 
     Judged on the 5th percentile of the design-convention factor when given (the limits
-    are defined for it, ISO 13788 §4.2.3), else on the measured factor with a note; "not
+    are defined for it, ISO 13788 §4), else on the measured factor with a note; "not
     assessed" on exterior views or without limits.
     """
     fmin, fp05 = _stats(f[cold])

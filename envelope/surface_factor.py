@@ -84,10 +84,10 @@ def temperature_factor(t_si_c, t_i_c, t_e_c):
 # ------------------------------------------------------- factor at the design convention
 R_SI_DESIGN_OPAQUE = 0.25
 """Internal surface resistance for the temperature factor of opaque elements [m²K/W]
-(ISO 13788:2012 §4.2.3 (from memory); BRE IP 1/06 and DIN 4108-2 use the same 0.25)."""
+(ISO 13788:2012 §4, clause from memory; BRE IP 1/06 and DIN 4108-2 use the same 0.25)."""
 R_SI_DESIGN_GLAZING = 0.13
 """Internal surface resistance for the temperature factor of glazing and frames [m²K/W]
-(ISO 13788:2012 §4.2.3, from memory)."""
+(ISO 13788:2012 §4, clause from memory)."""
 GLAZING_KINDS = ("window", "rooflight", "glazing")
 """Element kinds judged with the glazing resistance."""
 
@@ -96,7 +96,7 @@ def design_surface_resistance(kind: str) -> float:
     """Internal surface resistance of the design convention for an element kind [m²K/W].
 
     0.13 for glazing (`GLAZING_KINDS`), 0.25 for every opaque kind (walls, roofs, ceilings,
-    floors, doors), after ISO 13788:2012 §4.2.3 (from memory).
+    floors, doors), after ISO 13788:2012 §4 (clause from memory).
     """
     if not isinstance(kind, str) or not kind:
         raise ValueError(f"kind must be an element kind such as 'wall'; got {kind!r}")
@@ -144,7 +144,7 @@ def design_temperature_factor(q_w_m2, t_si_c, t_e_c, r_si_design_m2k_w=R_SI_DESI
         f_Rsi,design = R' / (R' + R_si,design)
 
     which is f_Rsi = (θsi - θe)/(θi - θe) of the steady 1-D series network with R_si set
-    to the convention (Eq. 1 of [1] with the surface resistance of §4.2.3 of [1]; the same
+    to the convention (the definition of fRsi in [1] with the surface resistance that [1] prescribes; the same
     convention as [2] and [3]). The measured-night factor is the same formula with the
     night's own R_si = (θi - θsi)/q (about 0.13 on an open wall). Per pixel the heat path is
     taken as 1-D; at junctions the full method of [4] re-solves the 2-D field with
@@ -152,7 +152,7 @@ def design_temperature_factor(q_w_m2, t_si_c, t_e_c, r_si_design_m2k_w=R_SI_DESI
 
     References
     ----------
-    [1] ISO 13788:2012, §4.2.3 and §5.
+    [1] ISO 13788:2012, §4 (surface resistances for the temperature factor; clause from memory) and §5.
     [2] BRE Information Paper IP 1/06, Assessing the effects of thermal bridging at junctions
         and around openings (2006).
     [3] DIN 4108-2:2013, Mindestanforderungen an den Wärmeschutz, §6.2.

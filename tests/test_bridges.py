@@ -6,9 +6,9 @@ Outside references, named beside each check:
   itself checked here against the analytic field of a rectangle (Carslaw & Jaeger,
   Conduction of Heat in Solids, 1959, §5.4) with the 0.1 K acceptance of ISO 10211:2017
   Annex C (from memory) and against the 1-D U of ISO 6946:2017 §6;
-- ISO 10211:2017 §10: psi = L2D - Σ U_j l_j (internal dimensions: the interior surfaces the
+- ISO 10211:2017: psi = L2D - Σ U_j l_j (internal dimensions: the interior surfaces the
   camera sees), and the dimension systems of ISO 14683:2017;
-- Asdrubali, Baldinelli & Bianchi, Applied Energy 97 (2012) 365, Eq. 1 (incidence factor);
+- Asdrubali, Baldinelli & Bianchi, Applied Energy 97 (2012) 365 (incidence factor);
 - planted excess-flux profiles whose integral is known in closed form.
 Surface temperatures are turned into flux with the solver's own surface resistances
 (ISO 6946:2017 Table 7: 0.13 horizontal flow, 0.17 downward, 0.10 upward), so these tests
@@ -280,14 +280,14 @@ def test_user_reference_zone_is_the_undisturbed_area_minus_zones():
 
 # ------------------------------------------------------------------------ incidence factor
 def test_incidence_factor_by_definition():
-    # Asdrubali et al. 2012 Eq. 1, by hand: Q_1D = 6 W/m² x 10 m² = 60 W; with 12 W extra
+    # Asdrubali et al. 2012 definition, by hand: Q_1D = 6 W/m² x 10 m² = 60 W; with 12 W extra
     # I = 72 / 60 = 1.2 on the 10 m² it refers to.
     assert incidence_factor(12.0, [6.0], [10.0]) == (pytest.approx(1.2), 10.0)
     assert incidence_factor(12.0, [6.0, 8.0], [10.0, 5.0])[0] == pytest.approx(112.0 / 100.0)
 
 
 def test_incidence_factor_equals_the_temperature_form_of_the_paper():
-    # With one surface coefficient, Eq. 1 of Asdrubali et al. becomes the area mean of
+    # With one surface coefficient, the definition of Asdrubali et al. becomes the area mean of
     # (T_i - T_j) / (T_i - T_1D) over the framed area (their temperature form); here the
     # framed area is the whole wall and T_1D its undisturbed surface temperature.
     t, q, regions, _ = tail_scene(0.2, 4.0, 1.5, noise_k=0.0)

@@ -6,7 +6,7 @@ References used below:
 - psychrolib 2.5 (ASHRAE Handbook Fundamentals 2017, ch. 1, Hyland-Wexler formulation).
 - DIN 4108-2:2013 §6.2 background (θsi >= 12.6 °C, fRsi >= 0.70), from memory.
 - ISO 13788:2012 Annex A humidity classes (Δp 270...1350 Pa, Δv 0.002...0.010 kg/m3), from memory.
-- ISO 13788:2012 §4.2.3 surface resistances for the temperature factor (0.25 m²K/W opaque,
+- ISO 13788:2012 §4 surface resistances for the temperature factor (0.25 m²K/W opaque,
   0.13 glazing), BRE IP 1/06 (fCRsi 0.75 for dwellings, Rsi 0.25) and DIN 4108-2:2013 §6.2
   (fRsi 0.70, Rsi 0.25), from memory; ISO 6946:2017 Table 7 (Rsi 0.13 horizontal flow).
 """
@@ -328,7 +328,7 @@ def test_assess_frsi_risk_levels_and_design_state():
 
 # ------------------------------------------------------- factor at the design convention
 def test_design_convention_resistances():
-    # ISO 13788:2012 §4.2.3 (from memory): 0.25 m²K/W opaque, 0.13 m²K/W glazing and frames
+    # ISO 13788:2012 §4 (clause from memory): 0.25 m²K/W opaque, 0.13 m²K/W glazing and frames
     assert (R_SI_DESIGN_OPAQUE, R_SI_DESIGN_GLAZING) == (0.25, 0.13)
     assert design_surface_resistance("wall") == 0.25
     assert design_surface_resistance("Ceiling") == 0.25
