@@ -159,10 +159,10 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     the reference level, or the user's reference zone), then again from the mean over each
     element's undisturbed mask (mask or reference zone without every zone), until the zones
     settle (at most `ZONE_PASSES` passes): the tails left in the undisturbed area bias its
-    mean upwards, which a further pass reduces. The
-    extra heat is taken against the mean over the final undisturbed mask, so that without
-    a user reference zone ``Σ q A (element) = q_ref A + Σ extra`` exactly (warm spots, whose
-    extra is set to 0, left out of both sides).
+    mean upwards, which a further pass reduces. The extra heat is taken against the mean
+    over the final undisturbed mask, so that without a user reference zone
+    ``Σ q A (element) = q_ref A + Σ extra`` exactly (warm spots, whose extra is set to 0,
+    left out of both sides).
     """
     settings = DefectSettings() if settings is None else settings
     t = np.asarray(t_s_c, float)
@@ -176,6 +176,8 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     if not delta_t_k > 0:
         raise SurveyError(f"indoor-outdoor difference must be > 0 K, got {delta_t_k}",
                           field="delta_t_k")
+    if airtightness is not None and leak_air_w_k is not None:
+        raise ValueError("give airtightness or leak_air_w_k, not both")
     q = np.asarray(q_w_m2, float)
     area = np.asarray(area_map_m2, float)
     fd = None if frsi_design is None else np.asarray(frsi_design, float)
@@ -300,10 +302,10 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             for k in g.members:
                 own |= elements[info[k]["el"]].mask
             g.along, g.seed = extend_along(q, area, g.seed, labels, q_ref,
-                                                   g.junction.direction_px, valid=own,
-                                                   q_sigma_w_m2=q_sig)
+                                           g.junction.direction_px, valid=own,
+                                           q_sigma_w_m2=q_sig)
     warm_seeds = [full_mask(r, shape) for r, _ in warm]
-    # ---- zones, twice, and the reference flux of each element's undisturbed area
+    # ---- zones until they settle, and the reference flux of each element's undisturbed area
     seeds = [g.seed for g in grouped] + warm_seeds
     grow = [True] * len(grouped) + [False] * len(warm)
     ref_notes: dict[int, str] = {}
@@ -359,8 +361,8 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     leak_signal: list[float] = []
     for g, zone in zip(grouped, zones[:len(grouped)], strict=True):
         d = build_defect(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n_ref,
-                   in_view, f, fd, limits, side, delta_t_k, hdd_kd, settings, u_rel_of,
-                   thermogram_id, dp, junction_psi, checks_ok)
+                         in_view, f, fd, limits, side, delta_t_k, hdd_kd, settings, u_rel_of,
+                         thermogram_id, dp, junction_psi, checks_ok)
         d.notes += [ref_notes[i] for i in sorted(ref_notes)
                     if elements[i].name in d.elements]
         if info[g.members[0]]["change"] is not None:
@@ -374,8 +376,6 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     air_notes: list[str] = []
     h_inf = None
     if airtightness is not None:
-        if leak_air_w_k is not None:
-            raise ValueError("give airtightness or leak_air_w_k, not both")
         h_inf, how = infiltration.infiltration_heat_loss(airtightness)
         leak_air_w_k, share_note = infiltration.view_share(h_inf, viewed_area_m2,
                                                            airtightness.envelope_area_m2)
@@ -394,7 +394,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     return rank_defects(defects)
 
 
-def undisturbed_mask(element_region, defects, shape=None) -> np.ndarray:
+def undisturbed_mask(element_region, defects) -> np.ndarray:
     """The element's undisturbed pixels: its reference zone (or mask) minus every zone.
 
     Parameters
@@ -410,7 +410,6 @@ def undisturbed_mask(element_region, defects, shape=None) -> np.ndarray:
         The one mask that U, the defects' reference flux and the energy case use.
     """
     m = np.asarray(element_region.mask, bool)
-    shape = m.shape if shape is None else shape
     name = getattr(element_region, "name", "element")
     out = bridges.undisturbed_masks(
         {name: m}, [d.zone for d in defects if d.zone is not None],
