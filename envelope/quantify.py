@@ -222,7 +222,8 @@ def build_defect(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n
         g.kind, d0["cls"])
     linear = cls in ("linear thermal bridge", "repeating thermal bridge")
     near = [j for j in r0.junctions if j.distance_m <= settings.junction_m]
-    junction = g.junction if g.junction is not None else (near[0] if near else None)
+    # a linear bridge takes the junction it runs along; other defects the nearest as context
+    junction = g.junction if (linear or g.junction is not None) else (near[0] if near else None)
     reasons = list(d0["reasons"])
     notes = list(dict.fromkeys(n for k in g.members for n in info[k]["notes"]))
     if g.kind == "repeating":
@@ -259,8 +260,12 @@ def build_defect(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n
                                         psi_design, checks_ok=checks_ok)
         if psi_design is None:
             why = f"{source}; {why}"
-    if linear:
-        notes.append(f"psi with internal dimensions over {length:.2f} m along the junction")
+    if g.kind == "repeating":
+        notes.append(f"psi with internal dimensions over the members' summed length "
+                     f"{length:.2f} m")
+    elif linear:
+        notes.append(f"psi with internal dimensions over {length:.2f} m" + (
+            " along the junction" if g.along is not None else " (its major axis)"))
     if cls == "air leakage":
         notes.append("extra heat flow is the conductive surface excess at survey conditions")
     polys = [r.polygon for r in members if r.polygon is not None]
