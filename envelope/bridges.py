@@ -74,6 +74,8 @@ class Zone:
     mask: np.ndarray
     distance_m: float = 0.0
     stop: str = "seed only"
+    frame_shape: tuple[int, int] | None = None
+    """Shape of the full frame (set by `integration_zones`), for `full_mask`."""
 
     @classmethod
     def from_full(cls, full_mask, distance_m: float = 0.0, stop: str = "seed only") -> Zone:
@@ -83,7 +85,7 @@ class Zone:
         if rows.size == 0:
             return cls((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool), distance_m, stop)
         sl = (slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1))
-        return cls(sl, m[sl].copy(), distance_m, stop)
+        return cls(sl, m[sl].copy(), distance_m, stop, m.shape)
 
     @classmethod
     def from_box(cls, box, mask, distance_m: float = 0.0, stop: str = "seed only") -> Zone:
@@ -99,8 +101,11 @@ class Zone:
         inner = (slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1))
         return cls(sl, m[inner].copy(), distance_m, stop)
 
-    def full(self, shape) -> np.ndarray:
-        """The zone as a full-frame boolean mask of `shape`."""
+    def full(self, shape=None) -> np.ndarray:
+        """The zone as a full-frame boolean mask of `shape` (default: `frame_shape`)."""
+        shape = self.frame_shape if shape is None else shape
+        if shape is None:
+            raise ValueError("the zone does not know its frame: give shape")
         out = np.zeros(shape, dtype=bool)
         out[self.slices] = self.mask
         return out
@@ -126,6 +131,12 @@ def _nonzero(mask):
         return np.zeros(0, np.int64), np.zeros(0, np.int64)
     r, c = np.nonzero(mask[box])
     return r + box[0].start, c + box[1].start
+
+
+def _int_labels(labels) -> np.ndarray:
+    """Element labels as an integer array (no copy when they already are)."""
+    arr = np.asarray(labels)
+    return arr if arr.dtype.kind in "iu" else arr.astype(np.intp)
 
 
 def _check_maps(q_w_m2, area_map_m2):
@@ -237,7 +248,7 @@ def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
     cut-off.
     """
     a = np.asarray(area_map_m2, dtype=float)
-    labels = np.asarray(labels, dtype=int)
+    labels = _int_labels(labels)
     shape = a.shape
     if labels.shape != shape:
         raise ValueError(f"labels {labels.shape} must have the image's shape {shape}")
@@ -319,7 +330,7 @@ def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_
     f of its integral out.
     """
     q, a = _check_maps(q_w_m2, area_map_m2)
-    labels = np.asarray(labels, dtype=int)
+    labels = _int_labels(labels)
     for name, v in (("noise_z", noise_z), ("ring_window_m", ring_window_m),
                     ("tail_fraction", tail_fraction)):
         if not v >= 0:
@@ -387,6 +398,8 @@ def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_
             r_stop, reason = max_ring + 1, "cut-off"
         zone_box = seed_box | (cand & (ring < r_stop))
         zones.append(Zone.from_box(box, zone_box, (r_stop - 1) * ring_m, reason))
+    for z in zones:
+        z.frame_shape = q.shape
     return zones
 
 
@@ -424,7 +437,7 @@ def excess_heat(q_w_m2, area_map_m2, zone, labels, q_ref_w_m2, q_sigma_w_m2=None
     makes the first two optimistic).
     """
     q, a = _check_maps(q_w_m2, area_map_m2)
-    labels = np.asarray(labels, dtype=int)
+    labels = _int_labels(labels)
     if not isinstance(zone, Zone):
         zone = Zone.from_full(zone)
     box = zone.slices

@@ -44,6 +44,7 @@ from envelope.errors import SurveyError
 from envelope.junctions import extend_along, junction_groups
 from envelope.outlines import rasterise
 from envelope.quantify import (
+    WARM_NOTE,
     Defect,
     DepressurisedPair,
     Group,
@@ -59,6 +60,7 @@ __all__ = [
     "CLASSES",
     "RISK_SCORES",
     "ZONE_EXCLUDED_KINDS",
+    "WARM_NOTE",
     "Defect",
     "DefectSettings",
     "DepressurisedPair",
@@ -199,7 +201,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     use_pair = frsi_dep is not None and side == "interior"
     elements = list(regions.values())
     n_el = len(elements)
-    labels = np.full(shape, -1, dtype=np.int32)
+    labels = np.full(shape, -1, dtype=np.intp)
     allowed = np.zeros(shape, dtype=bool)
     for i, el in enumerate(elements):
         labels[el.mask] = i

@@ -133,6 +133,17 @@ def _shared_edge(poly_el, poly_other, tolerance_px: float):
     return poly_el.boundary.intersection(poly_other.buffer(tolerance_px))
 
 
+@functools.lru_cache(maxsize=128)
+def _free_edge(poly_el, others: tuple, tolerance_px: float):
+    """Part of an element's boundary that no other outline shares (cached per element)."""
+    free = poly_el.boundary
+    for onet in others:
+        shared = _shared_edge(poly_el, onet, tolerance_px)
+        if not shared.is_empty:
+            free = free.difference(shared.buffer(tolerance_px))
+    return free
+
+
 def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: float,
                    tolerance_px: float = 1.5) -> list[Junction]:
     """Junctions of a region from the outlines that meet its element's outline near it.
@@ -173,10 +184,8 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
     s = float(pixel_m) if pixel_m and np.isfinite(pixel_m) and pixel_m > 0 else 1.0
     reach_px = junction_m / s
     near_region = region_polygon.buffer(reach_px)
-    boundary = poly_el.boundary
     cx, cy = region_polygon.centroid.x, region_polygon.centroid.y
     out: list[Junction] = []
-    shared_all = []
     for other in others:
         if other.name == element.name or getattr(other, "polygon_net", None) is None:
             continue
@@ -186,7 +195,6 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
         shared = _shared_edge(poly_el, onet, float(tolerance_px))
         if shared.is_empty:
             continue
-        shared_all.append(shared)
         contact = shared.intersection(near_region)
         if contact.is_empty or contact.length <= 0:
             continue
@@ -201,9 +209,9 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
             distance_m=float(region_polygon.distance(contact)) * s,
             direction="horizontal" if abs(ux) >= abs(uy) else "vertical",
             contact_m=float(contact.length) * s, direction_px=(ux, uy)))
-    free = boundary
-    for sh in shared_all:
-        free = free.difference(sh.buffer(tolerance_px))
+    polys = tuple(o.polygon_net for o in others if o.name != element.name
+                  and getattr(o, "polygon_net", None) is not None and not o.polygon_net.is_empty)
+    free = _free_edge(poly_el, polys, float(tolerance_px))
     edge = free.intersection(near_region) if not free.is_empty else free
     if not edge.is_empty and edge.length > 0:
         ux, uy = _principal_direction(edge)
@@ -423,7 +431,7 @@ def extend_along(q_w_m2, area_map_m2, seed, labels, q_ref_w_m2, direction_px, va
     """
     q, a = bridges._check_maps(q_w_m2, area_map_m2)
     seed = np.asarray(seed, bool)
-    labels = np.asarray(labels, dtype=int)
+    labels = bridges._int_labels(labels)
     ux, uy, lo, hi = span_along(seed, direction_px)
     if hi < lo:
         return (ux, uy, lo, hi), seed.copy()

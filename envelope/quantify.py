@@ -132,6 +132,11 @@ class Defect:
     leak_flow_test_m3_h: float | None = None
 
     @property
+    def zone_mask(self) -> np.ndarray | None:
+        """The integration zone as a full-frame boolean mask (None without a zone)."""
+        return None if self.zone is None else self.zone.full()
+
+    @property
     def kwh_per_year(self) -> float:
         """Old name of `annual_kwh` (results schema v1)."""
         return self.annual_kwh

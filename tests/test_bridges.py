@@ -256,6 +256,7 @@ def test_whole_heat_flow_splits_into_undisturbed_and_extra():
     assert {d.defect_class for d in found} == {"linear thermal bridge", "missing insulation"}
     zones = [d.zone.full(t.shape) for d in found]
     assert not np.any(zones[0] & zones[1])  # disjoint
+    assert all(np.array_equal(d.zone_mask, z) for d, z in zip(found, zones, strict=True))
     area = np.full(t.shape, PX**2)
     for name, reg in regions.items():
         und = undisturbed_mask(reg, found)
