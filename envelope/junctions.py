@@ -269,7 +269,7 @@ def junction_verdict(psi_low95: float, psi_high95: float, psi_design: float | No
 
     Notes
     -----
-    The rule of the builder's U check (`envelope.energy.builder_verdict`), with psi in place
+    The rule of the builder's U check (``builder_verdict``), with psi in place
     of U: with ``limit = psi_design + tolerance``, pass when ``psi_high95 <= limit``, fail
     when ``psi_low95 > limit``, otherwise inconclusive; a failed survey check downgrades a
     pass to inconclusive. Both are measured with internal dimensions here; a design value

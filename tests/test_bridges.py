@@ -36,7 +36,11 @@ from envelope.bridges import (
 )
 from envelope.condensation import design_temperature_factor
 from envelope.defects import find_defects, undisturbed_mask
-from envelope.energy import builder_verdict
+
+try:  # the builder's U rule lives in envelope.verdicts once the pipeline split lands
+    from envelope.verdicts import builder_verdict
+except ImportError:  # pragma: no cover - before it
+    from envelope.energy import builder_verdict
 from envelope.junctions import (
     DEFAULT_PSI,
     OUTLINE_EDGE,
