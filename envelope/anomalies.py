@@ -1,9 +1,11 @@
-"""Anomaly segmentation, region description and registration of image pairs.
+"""Anomaly segmentation and region description: the first half of the defects engine.
 
-The first half of the defects engine (`envelope.defects` holds classification,
-quantification and ranking). Everything here works on plain arrays: a temperature-factor
-map, boolean element masks, a per-pixel area map [m2/px] and shapely polygons in pixel
-coordinates (x = column, y = row, pixel ``[r, c]`` centred at ``(c + 0.5, r + 0.5)``).
+`envelope.defects` holds classification, quantification and ranking; `envelope.bridges`
+the excess-heat integration; `envelope.junctions` the junction types; and
+`envelope.registration` the image pairs. Everything here works on plain arrays: a
+temperature-factor map, boolean element masks, a per-pixel area map [m2/px] and shapely
+polygons in pixel coordinates (x = column, y = row, pixel ``[r, c]`` centred at
+``(c + 0.5, r + 0.5)``).
 
 Steps, per element:
 
@@ -14,13 +16,10 @@ Steps, per element:
 3. binary opening then closing (`scipy.ndimage`), connected-component labelling, regions
    under ``min_area_m2`` dropped;
 4. description (`describe_region`): area, principal-axis length and width from second
-   moments, orientation, elongation, distance to the element edge, neighbouring elements
-   (junctions), irregularity, solidity, a pixel-exact polygon;
+   moments, orientation, elongation, distance to the element edge, the junctions whose
+   outlines meet near it (`envelope.junctions.find_junctions`), irregularity, solidity, a
+   pixel-exact polygon;
 5. repetition (`find_repetition`): parallel elongated regions at a regular spacing.
-
-Image pairs (baseline and depressurised) are registered by phase correlation with
-upsampled-DFT peak refinement (`register_translation`) and compared region by region
-(`pair_change`).
 """
 
 from __future__ import annotations
@@ -33,48 +32,23 @@ import shapely.ops
 from scipy import ndimage
 
 from envelope.errors import SurveyError
+from envelope.junctions import Junction, find_junctions
 
 __all__ = [
+    "MAD_TO_SIGMA",
     "DefectSettings",
     "Junction",
     "Region",
-    "PairChange",
     "reference_level",
     "anomaly_threshold",
     "segment_element",
     "pixel_polygon",
     "describe_region",
     "find_repetition",
-    "junction_label",
-    "register_translation",
-    "pair_change",
-    "align",
 ]
 
 MAD_TO_SIGMA = 1.4826
 """Scale from the median absolute deviation to sigma for normally distributed data."""
-
-OPENING_KINDS = ("window", "door", "opening", "rooflight")
-"""Element kinds treated as openings when labelling junctions."""
-
-_PAIR_LABELS = {
-    frozenset(("wall", "floor")): "wall–floor",
-    frozenset(("wall", "ceiling")): "wall–ceiling",
-    frozenset(("wall", "roof")): "wall–roof",
-    frozenset(("wall",)): "corner",
-    frozenset(("roof", "ceiling")): "roof–ceiling",
-    frozenset(("roof",)): "roof–roof",
-    frozenset(("ceiling",)): "ceiling–ceiling",
-    frozenset(("floor",)): "floor–floor",
-}
-
-_SIDE_LABELS = {
-    # (element kind, side of the element edge) -> junction kind inferred from the frame side
-    ("wall", "bottom"): "wall–floor",
-    ("wall", "top"): "wall–ceiling",
-    ("wall", "left"): "corner",
-    ("wall", "right"): "corner",
-}
 
 
 @dataclass(frozen=True)
@@ -109,9 +83,23 @@ class DefectSettings:
         Fewest parallel elongated regions that make a repetition.
     elongated : float
         Length/width ratio from which a region counts as elongated (linear) [-].
-    band_m : float
-        Half-width of the band around a region over which the excess heat flow is
-        integrated [m] (see `envelope.defects.quantify`).
+    cutoff_m : float
+        Farthest distance from a defect's seed over which its excess heat flux is
+        integrated [m] (`envelope.bridges.integration_zones`); at least the 1 m of the
+        cut-off planes of ISO 10211:2017. Integration usually stops earlier, where the
+        excess falls to the noise level.
+    noise_z : float
+        The excess of a ring of pixels counts as noise when it is within ``noise_z``
+        standard errors of zero [-].
+    ring_window_m : float
+        Width of the moving window of rings whose mean excess is tested [m].
+    tail_fraction : float
+        Integration also stops when the excess falls under this fraction of the excess on
+        the seed [-] (texture floor; the exponential tail left beyond is at most this
+        fraction of the tail's integral).
+    merge_width_factor : float
+        A compact region at a junction joins the linear bridge there when its width across
+        the junction is at most this multiple of the bridge's width [-].
     kinds : tuple of str
         Element kinds searched for defects (glazing is excluded: it is meant to be colder).
     report_warm : bool
@@ -129,30 +117,24 @@ class DefectSettings:
     repetition_tol: float = 0.2
     min_repeats: int = 3
     elongated: float = 4.0
-    band_m: float = 0.15
+    cutoff_m: float = 2.0
+    noise_z: float = 2.0
+    ring_window_m: float = 0.03
+    tail_fraction: float = 0.005
+    merge_width_factor: float = 2.0
     kinds: tuple[str, ...] = ("wall", "roof", "ceiling", "floor", "door")
     report_warm: bool = True
 
     def __post_init__(self):
-        for name in ("delta_f", "delta_f_exterior", "k_sigma", "min_area_m2", "junction_m", "band_m"):
-            if getattr(self, name) < 0:
+        for name in ("delta_f", "delta_f_exterior", "k_sigma", "min_area_m2", "junction_m",
+                     "noise_z", "ring_window_m", "tail_fraction", "merge_width_factor"):
+            if not getattr(self, name) >= 0:
                 raise SurveyError(f"must be >= 0, got {getattr(self, name)}", field=name)
+        if not self.cutoff_m >= 1.0:
+            raise SurveyError(f"must be >= 1 m (ISO 10211 cut-off planes), got {self.cutoff_m}",
+                              field="cutoff_m")
         if self.min_repeats < 2:
             raise SurveyError(f"must be >= 2, got {self.min_repeats}", field="min_repeats")
-
-
-@dataclass
-class Junction:
-    """A neighbouring element (or the element's own edge) near a region."""
-
-    name: str
-    """Neighbour element name, or ``"edge:<side>"`` when inferred from the element edge."""
-    kind: str
-    """Junction kind: "wall–floor", "wall–ceiling", "wall–roof", "around opening", "corner"..."""
-    distance_m: float
-    """Shortest distance from the region to the neighbour's outline [m]."""
-    direction: str
-    """Orientation of the junction line: "horizontal", "vertical" or "around"."""
 
 
 @dataclass
@@ -199,23 +181,6 @@ class Region:
     repetition: int | None = None
     """Index of the repetition group the region belongs to (same element), else None."""
     spacing_m: float | None = None
-
-
-@dataclass
-class PairChange:
-    """How a region changes from the baseline to the depressurised image."""
-
-    area_base_m2: float
-    area_dep_m2: float
-    growth_m2: float
-    growth_ratio: float
-    """area_dep / area_base - 1 (inf when absent from the baseline)."""
-    cooling_k: float
-    """Mean of (baseline - depressurised) over the region [K]; positive = cooler."""
-    cooling_max_k: float
-    """95th percentile of the cooling over the region [K]."""
-    appears: bool
-    """Anomalous area in the baseline under 20 % of that in the depressurised image."""
 
 
 def reference_level(frsi, mask, reference_mask=None) -> tuple[float, float]:
@@ -460,14 +425,6 @@ def pixel_polygon(mask, offset=(0, 0)):
     return shapely.union_all(polys)
 
 
-def junction_label(kind_a: str, kind_b: str) -> str:
-    """Junction kind between two element kinds ("wall–floor", "around opening", "corner"...)."""
-    a, b = kind_a.lower(), kind_b.lower()
-    if a in OPENING_KINDS or b in OPENING_KINDS:
-        return "around opening"
-    return _PAIR_LABELS.get(frozenset((a, b)), f"{a}–{b}")
-
-
 def _side_of(vec_x: float, vec_y: float) -> str:
     """Side of the element edge seen from the region (y grows downwards)."""
     if abs(vec_y) >= abs(vec_x):
@@ -534,21 +491,8 @@ def describe_region(region_mask, slices, frsi, area_map_m2, element, others=(), 
     irregularity = perim_px**2 / (4 * np.pi * max(float(poly.area), 1e-12))
     hull = poly.convex_hull.area
     solidity = float(poly.area / hull) if hull > 0 else 1.0
-    # junctions: other elements within the junction distance
-    junctions = []
-    for other in others:
-        if other.name == element.name or other.polygon_net is None:
-            continue
-        d_px = float(poly.distance(other.polygon_net))
-        if d_px * s <= settings.junction_m:
-            boundary = other.polygon_net.boundary
-            near = boundary.interpolate(boundary.project(shapely.Point(xm, ym)))
-            side = _side_of(near.x - xm, near.y - ym)
-            kind = junction_label(element.kind, other.kind)
-            direction = "around" if kind == "around opening" else (
-                "horizontal" if side in ("top", "bottom") else "vertical")
-            junctions.append(Junction(other.name, kind, d_px * s, direction))
-    junctions.sort(key=lambda j: j.distance_m)
+    # junctions: outlines that meet the element's outline near the region
+    junctions = find_junctions(poly, element, others, s, settings.junction_m)
     # distance to the element's own edge, and the side it lies on
     edge = element.polygon_net.boundary if element.polygon_net is not None else None
     if edge is not None and not edge.is_empty:
@@ -557,11 +501,6 @@ def describe_region(region_mask, slices, frsi, area_map_m2, element, others=(), 
         edge_side = _side_of(b.x - xm, b.y - ym)
     else:
         edge_px, edge_side = np.nan, ""
-    if not junctions and edge_px * s <= settings.junction_m:
-        kind = _SIDE_LABELS.get((element.kind.lower(), edge_side))
-        if kind is not None:
-            direction = "horizontal" if edge_side in ("top", "bottom") else "vertical"
-            junctions.append(Junction(f"edge:{edge_side}", kind, edge_px * s, direction))
     return Region(
         element=element.name, element_kind=element.kind, sign=sign, slices=slices,
         mask=region_mask, n_px=int(rows.size), area_m2=area_m2, pixel_m=s,
@@ -607,8 +546,9 @@ def find_repetition(regions, settings=DefectSettings()) -> list[list[int]]:
     width (within a factor ``1 + 2 repetition_tol``; lengths may differ, as under a gable). In each group the centroids are
     projected on the normal to the common direction and sorted; the group is a repetition
     when every gap is within ``repetition_tol`` of a whole multiple of the median gap (one
-    hidden member is allowed for) and at least ``min_repeats`` members remain. The
-    spacing is the median gap [m].
+    hidden member is allowed for), the median gap is at least twice the widest member (the
+    members stand side by side: pieces of one broken line are not a repetition) and at least
+    ``min_repeats`` members remain. The spacing is the median gap [m].
     """
     idx = [i for i, r in enumerate(regions) if r.elongation >= settings.elongated * 0.75]
     groups: list[list[int]] = []
@@ -641,180 +581,12 @@ def find_repetition(regions, settings=DefectSettings()) -> list[list[int]]:
         if not ok.all():
             continue
         s = float(np.mean([regions[j].pixel_m for j in members]))
+        widest = max(regions[j].width_m for j in members)
+        if base * s < 2.0 * widest:
+            continue  # side by side, not in a line: collinear pieces of one bridge are not studs
         for j in members:
             regions[j].repetition = len(groups)
             regions[j].spacing_m = base * s
             used.add(j)
         groups.append(members)
     return groups
-
-
-def _fill_nan(a):
-    a = np.asarray(a, dtype=float)
-    bad = ~np.isfinite(a)
-    if bad.any():
-        fill = np.median(a[~bad]) if (~bad).any() else 0.0
-        a = np.where(bad, fill, a)
-    return a
-
-
-def _upsampled_dft(data, size, upsample, offsets):
-    """DFT of `data` on a `size` × `size` grid around `offsets`, `upsample` times finer.
-
-    Matrix-multiply DFT of Guizar-Sicairos et al. (2008): only the neighbourhood of the
-    coarse peak is evaluated, at a cost of O(N size) instead of an upsampled FFT.
-    """
-    for n_items, off in zip(data.shape[::-1], offsets[::-1], strict=True):
-        kernel = (np.arange(size) - off)[:, None] * np.fft.fftfreq(n_items, upsample)[None, :]
-        data = np.tensordot(np.exp(-2j * np.pi * kernel), data, axes=(1, -1))
-    return data
-
-
-_SPECTRUM_WEIGHTS = {
-    # cross-power spectrum F G* -> weighted spectrum whose inverse transform peaks at the shift
-    "cross": lambda prod: prod,
-    "phase": lambda prod: prod / np.maximum(np.abs(prod), 1e-12 * np.abs(prod).max() + 1e-300),
-}
-
-
-def register_translation(reference, moving, upsample: int = 50, model: str = "cross",
-                         window: bool = False):
-    """Sub-pixel translation that registers `moving` onto `reference`.
-
-    Parameters
-    ----------
-    reference, moving : ndarray
-        Two images of the same shape (e.g. baseline and depressurised thermograms [°C]).
-        NaN pixels are filled with the image median.
-    upsample : int
-        Refinement factor of the correlation peak: the shift is resolved to 1/upsample px.
-    model : {"cross", "phase"}
-        Weighting of the cross-power spectrum: "phase" whitens it (``R = F G* / |F G*|``,
-        phase correlation of [1]); "cross" keeps its magnitude (the cross-correlation of
-        [2]). On noisy thermograms of smooth scenes "cross" is the more accurate (whitening
-        lifts the noise-dominated high frequencies): 0.02 px against 0.2–0.4 px on a
-        160 × 120 scene with 0.05 K noise, measured in `tests/test_defects.py`.
-    window : bool
-        Apply a Hann window after removing the mean. The window stays fixed while the
-        content moves, which biases the peak towards zero; off by default.
-
-    Returns
-    -------
-    (dy, dx) : tuple of float
-        Shift in pixels [rows, columns] such that ``scipy.ndimage.shift(moving, (dy, dx))``
-        lines up with `reference`.
-
-    Notes
-    -----
-    With ``F``, ``G`` the spectra of the mean-removed images, the inverse transform of the
-    weighted cross-power spectrum ``F G*`` peaks at the shift (Eq. 1 of [2]; the
-    whitened form is the phase correlation of [1]). The integer peak is refined by
-    evaluating the inverse transform on a 1.5 × 1.5 px neighbourhood sampled `upsample`
-    times finer with the matrix-multiply DFT of [2] (their "single-step DFT" approach).
-
-    References
-    ----------
-    [1] C. D. Kuglin and D. C. Hines, "The phase correlation image alignment method",
-        Proc. IEEE Int. Conf. Cybernetics and Society (1975) 163–165.
-    [2] M. Guizar-Sicairos, S. T. Thurman and J. R. Fienup, "Efficient subpixel image
-        registration algorithms", Opt. Lett. 33 (2008) 156–158, doi:10.1364/OL.33.000156.
-
-    Examples
-    --------
-    >>> import numpy as np
-    >>> from scipy import ndimage
-    >>> yy, xx = np.mgrid[0:64, 0:64]
-    >>> ref = np.exp(-((xx - 30) ** 2 + (yy - 28) ** 2) / 40.0)
-    >>> dy, dx = register_translation(ref, ndimage.shift(ref, (1.5, -2.25)))
-    >>> round(dy, 2), round(dx, 2)
-    (-1.5, 2.24)
-    """
-    if model not in _SPECTRUM_WEIGHTS:
-        raise ValueError(f"model must be one of {sorted(_SPECTRUM_WEIGHTS)}, got {model!r}")
-    a, b = _fill_nan(reference), _fill_nan(moving)
-    if a.shape != b.shape or a.ndim != 2:
-        raise ValueError(f"images must be 2-D and of the same shape, got {a.shape}, {b.shape}")
-    a, b = a - a.mean(), b - b.mean()
-    if window:
-        w = np.outer(np.hanning(a.shape[0]), np.hanning(a.shape[1]))
-        a, b = a * w, b * w
-    prod = _SPECTRUM_WEIGHTS[model](np.fft.fft2(a) * np.conj(np.fft.fft2(b)))
-    corr = np.abs(np.fft.ifft2(prod))
-    peak = np.array(np.unravel_index(np.argmax(corr), corr.shape), dtype=float)
-    shape = np.array(corr.shape, dtype=float)
-    wrap = peak > np.fix(shape / 2)
-    peak[wrap] -= shape[wrap]
-    if upsample > 1:
-        peak = np.round(peak * upsample) / upsample
-        size = int(np.ceil(upsample * 1.5))
-        centre = np.fix(size / 2.0)
-        offsets = centre - peak * upsample
-        fine = np.abs(_upsampled_dft(np.conj(prod), size, upsample, offsets))
-        sub = np.array(np.unravel_index(np.argmax(fine), fine.shape), dtype=float)
-        peak = peak + (sub - centre) / upsample
-    return float(peak[0]), float(peak[1])
-
-
-def align(moving, shift):
-    """`moving` shifted by ``(dy, dx)`` px (linear interpolation, NaN filled by the median)."""
-    return ndimage.shift(_fill_nan(moving), shift, order=1, mode="nearest")
-
-
-def pair_change(baseline_t_c, depressurised_t_c, shift, region_mask, cold_threshold_c=None,
-                area_map_m2=None) -> PairChange:
-    """Growth and cooling of a region between a baseline and a depressurised image.
-
-    Parameters
-    ----------
-    baseline_t_c, depressurised_t_c : ndarray
-        Surface temperatures [°C] of the same view at rest and under a pressure difference.
-    shift : (dy, dx) or None
-        From `register_translation`; None when `depressurised_t_c` is already aligned.
-    region_mask : ndarray of bool
-        Pixels of the region (union of its extent in both images).
-    cold_threshold_c : float or ndarray, optional
-        Temperature below which a pixel counts as anomalous [°C]. Default: the median of
-        the baseline over a 3-px ring around the region minus ``max(3 sigma, 0.3 K)``.
-    area_map_m2 : ndarray, optional
-        Pixel area [m2/px]; without it areas are in pixels.
-
-    Returns
-    -------
-    PairChange
-
-    Notes
-    -----
-    Cooling ``ΔT = mean(T_base - T_dep)`` over the region; the region "appears" when its
-    anomalous area in the baseline is under 20 % of that in the depressurised image.
-    Under a depressurisation of at least 5 Pa (EN 13187) cold outdoor air drawn in through
-    a leak cools the surface around it, so the anomaly grows and cools; conduction-only
-    defects stay put.
-
-    References
-    ----------
-    [1] EN 13187:1998, Thermal performance of buildings -- Qualitative detection of thermal
-        irregularities in building envelopes -- Infrared method.
-    """
-    base = np.asarray(baseline_t_c, float)
-    dep = np.asarray(depressurised_t_c, float) if shift is None else align(depressurised_t_c,
-                                                                            shift)
-    m = np.asarray(region_mask, bool)
-    area = np.ones(base.shape) if area_map_m2 is None else np.asarray(area_map_m2, float)
-    if cold_threshold_c is None:
-        ring = ndimage.binary_dilation(m, iterations=3) & ~m & np.isfinite(base)
-        ref = base[ring] if ring.any() else base[np.isfinite(base)]
-        med = float(np.median(ref))
-        sig = MAD_TO_SIGMA * float(np.median(np.abs(ref - med)))
-        cold_threshold_c = med - max(3 * sig, 0.3)
-    thr = np.broadcast_to(np.asarray(cold_threshold_c, float), base.shape)
-    a_base = float(area[m & (base < thr)].sum())
-    a_dep = float(area[m & (dep < thr)].sum())
-    cool = (base - dep)[m & np.isfinite(base) & np.isfinite(dep)]
-    growth_ratio = a_dep / a_base - 1.0 if a_base > 0 else (np.inf if a_dep > 0 else 0.0)
-    return PairChange(
-        area_base_m2=a_base, area_dep_m2=a_dep, growth_m2=a_dep - a_base,
-        growth_ratio=float(growth_ratio),
-        cooling_k=float(cool.mean()) if cool.size else np.nan,
-        cooling_max_k=float(np.percentile(cool, 95)) if cool.size else np.nan,
-        appears=bool(a_dep > 0 and a_base < 0.2 * a_dep),
-    )

@@ -1,10 +1,16 @@
-"""Psychrometrics, indoor humidity, temperature factor and condensation / mould risk.
+"""Indoor humidity, fRsi limits and condensation / mould risk.
 
-The saturation vapour pressure, the internal humidity classes and the fRsi,min procedure
-follow ISO 13788:2012. The measured temperature factor fRsi of a survey night is compared
-with the limit for mould (critical surface humidity 0.8) and for surface condensation (1.0),
-or with a national fixed criterion.
+The internal humidity classes and the fRsi,min procedure follow ISO 13788:2012. The
+limits (ISO 13788's fRsi,min, BRE IP 1/06's 0.75, DIN 4108-2's 0.70) are defined for a
+temperature factor computed at a design surface resistance, Rsi = 0.25 m²K/W on opaque
+elements and 0.13 m²K/W on glazing: the extra resistance stands for corners, furniture and
+curtains. A survey night measures the factor on an open surface (Rsi about 0.13). This
+module judges risk on the factor at the design convention (`assess_frsi`, with
+`envelope.surface_factor.design_temperature_factor`) and reports the measured-night factor
+beside it.
 
+Psychrometrics (`envelope.psychrometrics`) and the temperature factors
+(`envelope.surface_factor`) are re-exported here.
 Relative humidity is a fraction 0-1 everywhere, never percent.
 """
 
@@ -18,21 +24,71 @@ import numpy as np
 from envelope.constants import R_V_J_KGK as _R_V
 from envelope.constants import T0_K
 from envelope.errors import EnvelopeWarning, SurveyError
+from envelope.psychrometrics import (
+    P0_PA,  # noqa: F401  (re-exported)
+    _out,
+    check_rh,
+    dew_point,
+    relative_humidity,
+    saturation_vapour_pressure,
+    surface_relative_humidity,
+    t_from_p_sat,
+    vapour_pressure,
+)
+from envelope.surface_factor import (  # noqa: F401  (re-exported)
+    MIN_DT_K,
+    R_SI_DESIGN_GLAZING,
+    R_SI_DESIGN_OPAQUE,
+    design_factor_from_measured,
+    design_factor_map,
+    design_surface_resistance,
+    design_temperature_factor,
+    temperature_factor,
+)
 
-P0_PA = 610.5
-"""Saturation vapour pressure at 0 °C in the formulas of ISO 13788:2012 Annex E [Pa]."""
-_A_WATER, _B_WATER = 17.269, 237.3
-_A_ICE, _B_ICE = 21.875, 265.5
+__all__ = [
+    "HUMIDITY_CLASS_DP_PA",
+    "HUMIDITY_CLASS_LABELS",
+    "FIXED_CRITERIA",
+    "R_SI_DESIGN_OPAQUE",
+    "R_SI_DESIGN_GLAZING",
+    "RISK_ORDER",
+    "saturation_vapour_pressure",
+    "vapour_pressure",
+    "relative_humidity",
+    "dew_point",
+    "surface_relative_humidity",
+    "temperature_factor",
+    "design_surface_resistance",
+    "design_temperature_factor",
+    "design_factor_from_measured",
+    "design_factor_map",
+    "IndoorHumidity",
+    "humidity_class_excess",
+    "indoor_vapour_pressure",
+    "FrsiLimit",
+    "frsi_limit",
+    "fixed_limit",
+    "FrsiVerdict",
+    "assess_frsi",
+    "worst_risk",
+]
+
 R_V_J_KGK = _R_V
 """Gas constant of water vapour [J kg-1 K-1] (ISO 13788:2012)."""
-MIN_DT_K = 1.0
-"""Indoor-outdoor difference below which fRsi is ill-conditioned [K]."""
 
 HUMIDITY_CLASS_DP_PA = {1: 270.0, 2: 540.0, 3: 810.0, 4: 1080.0, 5: 1350.0}
 """Internal vapour pressure excess at θe <= 0 °C per humidity class [Pa] (ISO 13788:2012
-Annex A, from memory: 1 unoccupied / dry storage, 2 offices and dwellings with normal
-occupancy and ventilation, 3 buildings of unknown occupancy, 4 sports halls, kitchens,
-canteens, 5 special buildings such as laundries, breweries, swimming pools)."""
+Annex A, Figure A.1; from memory). The buildings of each class are `HUMIDITY_CLASS_LABELS`."""
+HUMIDITY_CLASS_LABELS = {
+    1: "Unoccupied buildings, storage of dry goods",
+    2: "Offices, dwellings with normal occupancy and ventilation",
+    3: "Buildings with unknown occupancy",
+    4: "Sports halls, kitchens, canteens",
+    5: "Special buildings, e.g. laundry, brewery, swimming pool",
+}
+"""Internal humidity classes as worded in ISO 13788:2012 Annex A, Table A.1 (from memory;
+the wording agrees with a published reproduction of the table)."""
 DESIGN_SAFETY_FACTOR = 1.10
 """Factor on Δp in the ISO 13788 design procedure (ISO 13788:2012 §4.2.4, from memory)."""
 
@@ -41,42 +97,17 @@ FIXED_CRITERIA = {
         0.75,
         "BRE Information Paper IP 1/06, Assessing the effects of thermal bridging at "
         "junctions and around openings (2006), Table 1: fCRsi >= 0.75 for dwellings, "
-        "residential buildings and schools (from memory)",
+        "residential buildings and schools, factor computed with Rsi = 0.25 m²K/W "
+        "(from memory)",
     ),
     "din-4108-2": (
         0.70,
         "DIN 4108-2:2013, Wärmeschutz und Energie-Einsparung in Gebäuden, Teil 2: "
-        "fRsi >= 0.70 (θsi >= 12.6 °C at 20 °C / 50 %, -5 °C outdoor, 80 % at the surface)",
+        "§6.2: fRsi >= 0.70 with Rsi = 0.25 m²K/W (θsi >= 12.6 °C at 20 °C / 50 %, -5 °C "
+        "outdoor, 80 % at the surface; from memory)",
     ),
 }
 """Fixed national temperature-factor criteria: name -> (fRsi,min, source)."""
-
-
-# ---------------------------------------------------------------------------- helpers
-def _out(x):
-    """0-d arrays back to float; arrays unchanged."""
-    x = np.asarray(x, dtype=float)
-    return float(x) if x.ndim == 0 else x
-
-
-def _check_rh(rh, name: str = "rh"):
-    """`rh` as a float array, checked to be a fraction 0-1 (NaN passes as 'invalid')."""
-    if rh is None:
-        raise SurveyError(f"{name} is missing: a relative humidity (fraction 0-1) is needed",
-                          field=name)
-    a = np.asarray(rh, dtype=float)
-    finite = a[np.isfinite(a)]
-    if np.any(np.isinf(a)):
-        raise SurveyError(f"{name} must be finite; got infinity", field=name)
-    pct = finite[(finite > 1.0) & (finite <= 100.0)]
-    if pct.size:
-        raise SurveyError(
-            f"rh is a fraction 0-1; got {pct[0]:g} — was it given in percent? "
-            f"(use {pct[0] / 100:g})", field=name)
-    bad = finite[(finite < 0.0) | (finite > 1.0)]
-    if bad.size:
-        raise SurveyError(f"rh is a fraction 0-1; got {bad[0]:g}", field=name)
-    return a
 
 
 def _monthly(values, name: str, allow_scalar: bool = False) -> np.ndarray:
@@ -95,175 +126,6 @@ def _monthly(values, name: str, allow_scalar: bool = False) -> np.ndarray:
                           f"{[int(i) + 1 for i in np.flatnonzero(~np.isfinite(a))]} are not",
                           field=name)
     return a
-
-
-# --------------------------------------------------------------------- psychrometrics
-def saturation_vapour_pressure(t_c):
-    """Saturation vapour pressure of water vapour [Pa] after ISO 13788:2012 Annex E.
-
-    Parameters
-    ----------
-    t_c : array_like
-        Temperature [°C]. Over water for θ >= 0 °C, over ice for θ < 0 °C.
-
-    Returns
-    -------
-    float or ndarray
-        p_sat [Pa]; NaN where `t_c` is NaN.
-
-    Notes
-    -----
-    Magnus-type fits of Annex E of [1]::
-
-        p_sat = 610.5 exp(17.269 θ / (237.3 + θ))   θ >= 0 °C (over water)
-        p_sat = 610.5 exp(21.875 θ / (265.5 + θ))   θ <  0 °C (over ice)
-
-    They agree with IAPWS-95 (water) and the ASHRAE / Hyland-Wexler values within about
-    0.5 % over -20...+30 °C (tests/test_condensation.py).
-
-    References
-    ----------
-    [1] ISO 13788:2012, Hygrothermal performance of building components and building
-        elements -- Internal surface temperature to avoid critical surface humidity and
-        interstitial condensation -- Calculation methods, Annex E.
-
-    Examples
-    --------
-    >>> round(saturation_vapour_pressure(20.0), 1)
-    2337.0
-    """
-    t = np.asarray(t_c, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        water = P0_PA * np.exp(_A_WATER * t / (_B_WATER + t))
-        ice = P0_PA * np.exp(_A_ICE * t / (_B_ICE + t))
-    return _out(np.where(t >= 0.0, water, ice))
-
-
-def _t_from_p_sat(p_pa):
-    """Inverse of `saturation_vapour_pressure`: temperature [°C] where p_sat = p."""
-    p = np.asarray(p_pa, dtype=float)
-    if np.any(p[np.isfinite(p)] <= 0.0):
-        raise SurveyError("vapour pressure must be > 0 Pa for a dew point; got "
-                          f"{p[np.isfinite(p) & (p <= 0)].flat[0]:g} Pa (rh = 0?)")
-    with np.errstate(divide="ignore", invalid="ignore"):
-        x = np.log(p / P0_PA)
-        water = _B_WATER * x / (_A_WATER - x)
-        ice = _B_ICE * x / (_A_ICE - x)
-    return np.where(p >= P0_PA, water, ice)
-
-
-def vapour_pressure(t_c, rh):
-    """Partial pressure of water vapour [Pa] of air at `t_c` [°C] and `rh` [-]: φ p_sat(θ)."""
-    return _out(_check_rh(rh) * np.asarray(saturation_vapour_pressure(t_c)))
-
-
-def relative_humidity(t_c, p_v_pa):
-    """Relative humidity [-] of air at `t_c` [°C] holding vapour pressure `p_v_pa` [Pa].
-
-    Not clipped: a value above 1 means the vapour pressure exceeds saturation.
-    """
-    p = np.asarray(p_v_pa, dtype=float)
-    if np.any(p[np.isfinite(p)] < 0.0):
-        raise SurveyError("vapour pressure must be >= 0 Pa", field="p_v_pa")
-    return _out(p / np.asarray(saturation_vapour_pressure(t_c)))
-
-
-def dew_point(t_c, rh):
-    """Dew point [°C] (frost point below 0 °C) of air at `t_c` [°C] and `rh` [-].
-
-    Parameters
-    ----------
-    t_c : array_like
-        Air temperature [°C].
-    rh : array_like
-        Relative humidity, fraction 0-1 (relative to `saturation_vapour_pressure`).
-
-    Returns
-    -------
-    float or ndarray
-        The temperature at which p_sat equals the air's vapour pressure [°C].
-
-    Notes
-    -----
-    Analytic inverse of the ISO 13788 formulas, with x = ln(p_v / 610.5)::
-
-        θ_d = 237.3 x / (17.269 - x)   p_v >= 610.5 Pa
-        θ_d = 265.5 x / (21.875 - x)   p_v <  610.5 Pa
-
-    Below 0 °C this is the frost point (saturation over ice), which is where the ISO 13788
-    procedure puts the branch and where hoar frost, not dew, forms on a surface. It lies
-    above the dew point over supercooled water (by about 1 K at -10 °C). psychrolib's
-    GetTDewPointFromRelHum makes the same choice.
-
-    References
-    ----------
-    [1] ISO 13788:2012, Annex E.
-
-    Examples
-    --------
-    >>> round(dew_point(20.0, 0.5), 2)
-    9.27
-    """
-    p = vapour_pressure(t_c, rh)
-    return _out(_t_from_p_sat(p))
-
-
-def surface_relative_humidity(t_air_c, rh_air, t_s_c):
-    """Relative humidity [-] at a surface at `t_s_c` [°C] in air at `t_air_c`, `rh_air`.
-
-    Notes
-    -----
-    φ_s = φ_air p_sat(θ_air) / p_sat(θ_s) (the vapour pressure is the same in the room air
-    and at the surface). Not clipped: above 1 means surface condensation.
-    """
-    return _out(vapour_pressure(t_air_c, rh_air) / np.asarray(saturation_vapour_pressure(t_s_c)))
-
-
-# ----------------------------------------------------------------- temperature factor
-def temperature_factor(t_si_c, t_i_c, t_e_c):
-    """Temperature factor at the internal surface fRsi [-].
-
-    Parameters
-    ----------
-    t_si_c : array_like
-        Internal surface temperature [°C] (an image, NaN for invalid pixels).
-    t_i_c, t_e_c : array_like
-        Indoor and outdoor air temperatures [°C], broadcast against `t_si_c`.
-
-    Returns
-    -------
-    float or ndarray
-        fRsi; NaN only where an input is NaN or where T_i = T_e exactly (warned).
-        Raises SurveyError where indoor air is colder than outdoor by more than 1 K
-        (swapped temperatures?); warns (EnvelopeWarning) where T_i - T_e < 1 K.
-
-    Notes
-    -----
-    fRsi = (θsi - θe) / (θi - θe), as defined in [1]; 1 for a perfect insulator.
-
-    References
-    ----------
-    [1] ISO 13788:2012, §3 (terms) and §5.
-
-    Examples
-    --------
-    >>> temperature_factor(15.0, 20.0, 0.0)
-    0.75
-    """
-    t_si = np.asarray(t_si_c, dtype=float)
-    dt = np.asarray(t_i_c, dtype=float) - np.asarray(t_e_c, dtype=float)
-    fin = dt[np.isfinite(dt)]
-    if np.any(fin < -MIN_DT_K):
-        raise SurveyError(f"indoor air is colder than outdoor (T_i - T_e = {fin.min():g} K); "
-                          "were the indoor and outdoor temperatures swapped?", field="t_i_c")
-    if np.any(fin < MIN_DT_K):
-        warnings.warn(f"indoor-outdoor difference {fin.min():g} K is below {MIN_DT_K:g} K: "
-                      "fRsi is ill-conditioned" + ("; it is NaN where the difference is 0"
-                                                   if np.any(fin == 0) else ""),
-                      EnvelopeWarning, stacklevel=2)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        f = (t_si - np.asarray(t_e_c, dtype=float)) / np.where(dt == 0.0, np.nan, dt)
-    return _out(f)
 
 
 # --------------------------------------------------------------------- indoor humidity
@@ -315,7 +177,7 @@ def _positive(value, name: str) -> float:
 
 
 def _p_i_measured(t_e_c, rh_e, t_i_c, kw):
-    return vapour_pressure(t_i_c, _check_rh(kw["rh_i"], "rh_i"))
+    return vapour_pressure(t_i_c, check_rh(kw["rh_i"], "rh_i"))
 
 
 def _p_i_class(t_e_c, rh_e, t_i_c, kw):
@@ -381,7 +243,7 @@ def indoor_vapour_pressure(t_e_c, rh_e, t_i_c, model: str = "measured", *, rh_i=
         raise SurveyError("indoor and outdoor temperatures are both needed",
                           field="t_e_c" if t_e_c is None else "t_i_c")
     if model != "measured":
-        _check_rh(rh_e, "rh_e")
+        check_rh(rh_e, "rh_e")
     k = float(safety_factor)
     if not np.isfinite(k) or k < 1.0:
         raise SurveyError(f"safety_factor must be >= 1; got {safety_factor!r}",
@@ -406,16 +268,19 @@ class FrsiLimit:
     p_i_pa: np.ndarray | None
     p_sat_min_pa: np.ndarray | None
     t_si_min_c: np.ndarray | None
-    frsi_min_monthly: np.ndarray | None
+    limit_monthly: np.ndarray | None
     critical_rh: float | None
     method: str
     skipped_months: tuple[int, ...] = ()
     notes: tuple[str, ...] = field(default_factory=tuple)
 
 
-def frsi_min(monthly_t_e_c, monthly_rh_e, monthly_t_i_c, humidity: IndoorHumidity,
-             critical_rh: float = 0.8) -> FrsiLimit:
-    """Minimum temperature factor fRsi,min over the year by the ISO 13788 procedure.
+def frsi_limit(monthly_t_e_c, monthly_rh_e, monthly_t_i_c, humidity: IndoorHumidity,
+               critical_rh: float = 0.8) -> FrsiLimit:
+    """Limit of the temperature factor, fRsi,min, over the year by the ISO 13788 procedure.
+
+    (Was ``frsi_min``; that name now means the measured minimum of a surface.) The limit
+    holds for a factor at the design convention (`design_temperature_factor`).
 
     Parameters
     ----------
@@ -450,11 +315,11 @@ def frsi_min(monthly_t_e_c, monthly_rh_e, monthly_t_i_c, humidity: IndoorHumidit
     [1] ISO 13788:2012, §5.2 and Annex A.
     """
     t_e = _monthly(monthly_t_e_c, "monthly_t_e_c")
-    rh_e = _check_rh(_monthly(monthly_rh_e, "monthly_rh_e"), "monthly_rh_e")
+    rh_e = check_rh(_monthly(monthly_rh_e, "monthly_rh_e"), "monthly_rh_e")
     t_i = _monthly(monthly_t_i_c, "monthly_t_i_c", allow_scalar=True)
     crit = float(critical_rh)
     if not 0.0 < crit <= 1.0:
-        _check_rh(crit, "critical_rh")
+        check_rh(crit, "critical_rh")
         raise SurveyError(f"critical_rh must be in (0, 1]; got {critical_rh!r}",
                           field="critical_rh")
     rh_i = humidity.rh
@@ -466,7 +331,7 @@ def frsi_min(monthly_t_e_c, monthly_rh_e, monthly_t_i_c, humidity: IndoorHumidit
         volume_m3=humidity.volume_m3, safety_factor=humidity.safety_factor), dtype=float)
     p_i = np.broadcast_to(p_i, (12,)).copy()
     p_sat_min = p_i / crit
-    t_si_min = _t_from_p_sat(p_sat_min)
+    t_si_min = t_from_p_sat(p_sat_min)
     dt = t_i - t_e
     ok = dt >= MIN_DT_K
     skipped = tuple(int(m) + 1 for m in np.flatnonzero(~ok))
@@ -484,7 +349,7 @@ def frsi_min(monthly_t_e_c, monthly_rh_e, monthly_t_i_c, humidity: IndoorHumidit
     if humidity.model != "measured":
         notes.append(f"Δp multiplied by safety factor {humidity.safety_factor:g}")
     return FrsiLimit(value=float(f[crit_idx]), critical_month=crit_idx + 1, p_i_pa=p_i,
-                     p_sat_min_pa=p_sat_min, t_si_min_c=t_si_min, frsi_min_monthly=f,
+                     p_sat_min_pa=p_sat_min, t_si_min_c=t_si_min, limit_monthly=f,
                      critical_rh=crit, method="ISO 13788", skipped_months=skipped,
                      notes=tuple(notes))
 
@@ -496,18 +361,33 @@ def fixed_limit(name: str) -> FrsiLimit:
                           f"{', '.join(FIXED_CRITERIA)}", field="criterion")
     value, source = FIXED_CRITERIA[name]
     return FrsiLimit(value=value, critical_month=None, p_i_pa=None, p_sat_min_pa=None,
-                     t_si_min_c=None, frsi_min_monthly=None, critical_rh=None,
+                     t_si_min_c=None, limit_monthly=None, critical_rh=None,
                      method=f"fixed: {name}", notes=(source,))
 
 
+def frsi_min(*args, **kwargs) -> FrsiLimit:
+    """Deprecated name of `frsi_limit` (kept until every caller uses the new name)."""
+    warnings.warn("condensation.frsi_min is renamed frsi_limit", DeprecationWarning,
+                  stacklevel=2)
+    return frsi_limit(*args, **kwargs)
+
+
 # ------------------------------------------------------------------------------ verdict
+RISK_ORDER = ("not assessed", "none", "mould", "condensation")
+"""Risk strings from least to most severe."""
+
+
 @dataclass(frozen=True)
 class FrsiVerdict:
-    """Condensation / mould risk of a surface from its measured fRsi values.
+    """Condensation / mould risk of a surface, judged on the factor at the design convention.
 
     `risk` is "condensation" (p05 below the condensation limit), "mould" (below the mould
-    limit) or "none"; `t_si_design_c` [°C] and `rh_si_design` [-] are the surface state
-    predicted at design conditions from `frsi_p05`.
+    limit) or "none". ``frsi_design_min`` / ``frsi_design_p05`` are the design-convention
+    factor the risk is judged on; ``frsi_min`` / ``frsi_p05`` the factor measured on the
+    night, reported beside it. `t_si_design_c` [°C] and `rh_si_design` [-] are the surface
+    state predicted at design conditions from the judged p05. ``judged_on`` says which
+    factor the verdict used ("design convention", or "measured night" when no design
+    factor was given, which is not conservative).
     """
 
     frsi_min: float
@@ -519,46 +399,73 @@ class FrsiVerdict:
     rh_si_design: float
     n_pixels: int
     note: str
+    frsi_design_min: float = float("nan")
+    frsi_design_p05: float = float("nan")
+    judged_on: str = "design convention"
 
 
-_RISK_NOTE = (
-    "Assumes steady state: the fRsi measured on the survey night is taken to hold at design "
+_STEADY_NOTE = (
+    "Assumes steady state: the factor of the survey night is taken to hold at design "
     "conditions. A single night's reading carries the uncertainty of the U estimate (film "
     "coefficients, emissivity, camera accuracy, the thermal history of the wall); confirm "
     "marginal results by logging.")
+_RISK_NOTE = (
+    "Judged on the temperature factor at the design convention (Rsi 0.25 m²K/W on opaque "
+    "surfaces, 0.13 on glazing), for which the limits are defined; the factor measured on "
+    "the open surface on the survey night (Rsi about 0.13) is reported beside it and reads "
+    "higher. " + _STEADY_NOTE)
+_MEASURED_ONLY_NOTE = (
+    "No design-convention factor was given: judged on the factor measured on the survey "
+    "night, which reads higher than the convention the limits are defined for (not "
+    "conservative). " + _STEADY_NOTE)
+
+
+def _finite(values) -> np.ndarray:
+    f = np.asarray(values, dtype=float).ravel()
+    return f[np.isfinite(f)]
 
 
 def assess_frsi(frsi_values, limit_mould: FrsiLimit, limit_condensation: FrsiLimit,
-                design_t_i_c: float, design_t_e_c: float, design_rh_i: float) -> FrsiVerdict:
-    """Condensation and mould risk of a surface from its measured temperature factors.
+                design_t_i_c: float, design_t_e_c: float, design_rh_i: float,
+                frsi_design_values=None) -> FrsiVerdict:
+    """Condensation and mould risk of a surface, judged at the design convention.
 
     Parameters
     ----------
     frsi_values : array_like
-        Measured fRsi of the surface's pixels [-]; NaN pixels are ignored.
+        Temperature factor measured on the survey night for the surface's pixels [-]
+        (`temperature_factor`); NaN pixels are ignored. Reported beside the verdict.
     limit_mould, limit_condensation : FrsiLimit
-        Limits for critical surface humidity 0.8 and 1.0 (or fixed criteria).
+        Limits for critical surface humidity 0.8 and 1.0 (`frsi_limit`) or fixed criteria
+        (`fixed_limit`).
     design_t_i_c, design_t_e_c : float
         Indoor and outdoor air temperatures of the design (critical-month) case [°C].
     design_rh_i : float
         Indoor relative humidity of the design case [-].
+    frsi_design_values : array_like, optional
+        The same pixels' factor at the design convention (`design_temperature_factor` /
+        `design_factor_map`) [-]. The verdict is judged on it; without it the measured
+        factor is judged, with a note that this is not conservative.
 
     Notes
     -----
-    The 5th percentile fRsi,p05 (robust to single dead or hot pixels) is compared with the
-    limits; condensation outranks mould. Predicted surface temperature
-    θsi = θe + fRsi,p05 (θi - θe) (the definition of fRsi in [1] rearranged), surface humidity
+    The 5th percentile f_p05 (robust to single dead or hot pixels) of the judged factor is
+    compared with the limits; condensation outranks mould. Predicted surface temperature
+    θsi = θe + f_p05 (θi - θe) (the definition of fRsi in [1] rearranged), surface humidity
     φ_si = φ_i p_sat(θi) / p_sat(θsi).
 
     References
     ----------
-    [1] ISO 13788:2012, §5.
+    [1] ISO 13788:2012, §4 (surface resistances for the temperature factor; clause from memory) and §5.
     """
-    f = np.asarray(frsi_values, dtype=float).ravel()
-    f = f[np.isfinite(f)]
+    f = _finite(frsi_values)
     if f.size == 0:
         raise ValueError("no valid fRsi pixels: every value is NaN (is the element mask "
                          "empty or outside the thermogram?)")
+    fd = None if frsi_design_values is None else _finite(frsi_design_values)
+    if fd is not None and fd.size == 0:
+        raise ValueError("no valid design-convention factor: every value is NaN (heat flux "
+                         "<= 0 on every pixel?)")
     if design_t_i_c is None or design_t_e_c is None:
         raise SurveyError("design indoor and outdoor temperatures are needed",
                           field="design_t_i_c" if design_t_i_c is None else "design_t_e_c")
@@ -569,18 +476,39 @@ def assess_frsi(frsi_values, limit_mould: FrsiLimit, limit_condensation: FrsiLim
     if dt < MIN_DT_K:
         warnings.warn(f"design indoor-outdoor difference {dt:g} K is below {MIN_DT_K:g} K",
                       EnvelopeWarning, stacklevel=2)
-    rh_i = float(_check_rh(design_rh_i, "design_rh_i"))
+    rh_i = float(check_rh(design_rh_i, "design_rh_i"))
     p05 = float(np.percentile(f, 5.0))
-    if p05 < limit_condensation.value:
+    judged = p05 if fd is None else float(np.percentile(fd, 5.0))
+    if judged < limit_condensation.value:
         risk = "condensation"
-    elif p05 < limit_mould.value:
+    elif judged < limit_mould.value:
         risk = "mould"
     else:
         risk = "none"
-    t_si = float(design_t_e_c) + p05 * dt
+    t_si = float(design_t_e_c) + judged * dt
     rh_si = float(surface_relative_humidity(design_t_i_c, rh_i, t_si))
-    return FrsiVerdict(frsi_min=float(f.min()), frsi_p05=p05, risk=risk,
-                       limit_mould=float(limit_mould.value),
-                       limit_condensation=float(limit_condensation.value),
-                       t_si_design_c=t_si, rh_si_design=rh_si, n_pixels=int(f.size),
-                       note=_RISK_NOTE)
+    return FrsiVerdict(
+        frsi_min=float(f.min()), frsi_p05=p05, risk=risk,
+        limit_mould=float(limit_mould.value),
+        limit_condensation=float(limit_condensation.value),
+        t_si_design_c=t_si, rh_si_design=rh_si, n_pixels=int(f.size),
+        note=_MEASURED_ONLY_NOTE if fd is None else _RISK_NOTE,
+        frsi_design_min=float("nan") if fd is None else float(fd.min()),
+        frsi_design_p05=float("nan") if fd is None else judged,
+        judged_on="measured night" if fd is None else "design convention")
+
+
+def worst_risk(risks) -> str:
+    """The most severe of several risk strings (`RISK_ORDER`); "not assessed" if empty.
+
+    An element's verdict reflects its worst defect: ``worst_risk([element.risk] +
+    [d.risk for d in defects on it])``.
+    """
+    worst = "not assessed"
+    for r in risks:
+        r = "not assessed" if r is None else str(r)
+        if r not in RISK_ORDER:
+            raise ValueError(f"unknown risk {r!r}; valid: {', '.join(RISK_ORDER)}")
+        if RISK_ORDER.index(r) > RISK_ORDER.index(worst):
+            worst = r
+    return worst

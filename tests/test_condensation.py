@@ -6,6 +6,9 @@ References used below:
 - psychrolib 2.5 (ASHRAE Handbook Fundamentals 2017, ch. 1, Hyland-Wexler formulation).
 - DIN 4108-2:2013 §6.2 background (θsi >= 12.6 °C, fRsi >= 0.70), from memory.
 - ISO 13788:2012 Annex A humidity classes (Δp 270...1350 Pa, Δv 0.002...0.010 kg/m3), from memory.
+- ISO 13788:2012 §4 surface resistances for the temperature factor (0.25 m²K/W opaque,
+  0.13 glazing), BRE IP 1/06 (fCRsi 0.75 for dwellings, Rsi 0.25) and DIN 4108-2:2013 §6.2
+  (fRsi 0.70, Rsi 0.25), from memory; ISO 6946:2017 Table 7 (Rsi 0.13 horizontal flow).
 """
 
 from __future__ import annotations
@@ -21,12 +24,19 @@ from hypothesis import strategies as st
 
 from envelope.condensation import (
     FIXED_CRITERIA,
+    HUMIDITY_CLASS_LABELS,
+    R_SI_DESIGN_GLAZING,
+    R_SI_DESIGN_OPAQUE,
     FrsiLimit,
     IndoorHumidity,
     assess_frsi,
+    design_factor_from_measured,
+    design_factor_map,
+    design_surface_resistance,
+    design_temperature_factor,
     dew_point,
     fixed_limit,
-    frsi_min,
+    frsi_limit,
     humidity_class_excess,
     indoor_vapour_pressure,
     relative_humidity,
@@ -34,6 +44,7 @@ from envelope.condensation import (
     surface_relative_humidity,
     temperature_factor,
     vapour_pressure,
+    worst_risk,
 )
 from envelope.errors import EnvelopeWarning, SurveyError
 
@@ -201,13 +212,13 @@ def test_din_4108_2_background():
     # critical surface humidity give θsi,min = 12.6 °C and fRsi >= 0.70.
     # By hand: p_i = 0.5 * 2336.95 = 1168.5 Pa; p_sat = 1460.6 Pa; θsi = 12.62 °C;
     # fRsi = 17.62 / 25 = 0.705.
-    lim = frsi_min(np.full(12, -5.0), np.full(12, 0.8), 20.0,
+    lim = frsi_limit(np.full(12, -5.0), np.full(12, 0.8), 20.0,
                    IndoorHumidity("measured", rh=0.5), critical_rh=0.8)
     assert lim.t_si_min_c[0] == pytest.approx(12.6, abs=0.05)
     assert lim.value == pytest.approx(0.70, abs=0.01)
     assert lim.method == "ISO 13788" and lim.critical_rh == 0.8
     # Surface condensation (φ_crit = 1.0): θsi,min is the dew point, 9.27 °C (psychrolib).
-    cond = frsi_min(np.full(12, -5.0), np.full(12, 0.8), 20.0,
+    cond = frsi_limit(np.full(12, -5.0), np.full(12, 0.8), 20.0,
                     IndoorHumidity("measured", rh=0.5), critical_rh=1.0)
     assert cond.t_si_min_c[0] == pytest.approx(psychrolib.GetTDewPointFromRelHum(20.0, 0.5),
                                                abs=0.1)
@@ -255,17 +266,28 @@ def test_worked_twelve_month_example():
         p_i = p_e + 1.10 * dp
         t_si = iso_t_sat(p_i / 0.8)
         expected.append((t_si - t_e) / (t_i - t_e))
-    lim = frsi_min(CLIMATE_T_E, CLIMATE_RH_E, t_i, IndoorHumidity("humidity_class",
+    lim = frsi_limit(CLIMATE_T_E, CLIMATE_RH_E, t_i, IndoorHumidity("humidity_class",
                                                                  humidity_class=3))
-    np.testing.assert_allclose(lim.frsi_min_monthly, expected, rtol=1e-12)
+    np.testing.assert_allclose(lim.limit_monthly, expected, rtol=1e-12)
     assert lim.critical_month == 12
     assert lim.value == pytest.approx(0.776, abs=5e-4)  # hand table above
     assert lim.t_si_min_c[0] == pytest.approx(15.25, abs=0.005)
     assert lim.p_i_pa[0] == pytest.approx(1385.6, abs=0.05)
     assert lim.skipped_months == (7,)
     assert any("skipped" in n for n in lim.notes)
-    assert np.isnan(lim.frsi_min_monthly[6])  # skipped month, listed, not propagated
+    assert np.isnan(lim.limit_monthly[6])  # skipped month, listed, not propagated
     assert np.isfinite(lim.value)
+
+
+def test_humidity_class_labels_are_those_of_table_a1():
+    # ISO 13788:2012 Annex A, Table A.1 (from memory; wording as in a published reproduction)
+    assert HUMIDITY_CLASS_LABELS == {
+        1: "Unoccupied buildings, storage of dry goods",
+        2: "Offices, dwellings with normal occupancy and ventilation",
+        3: "Buildings with unknown occupancy",
+        4: "Sports halls, kitchens, canteens",
+        5: "Special buildings, e.g. laundry, brewery, swimming pool",
+    }
 
 
 def test_fixed_criteria():
@@ -282,7 +304,7 @@ def test_fixed_criteria():
 # ---------------------------------------------------------------------------- verdict
 def test_assess_frsi_risk_levels_and_design_state():
     mould = fixed_limit("bre-ip1-06-dwellings")  # 0.75
-    cond = frsi_min(np.full(12, -5.0), np.full(12, 0.8), 20.0,
+    cond = frsi_limit(np.full(12, -5.0), np.full(12, 0.8), 20.0,
                     IndoorHumidity("measured", rh=0.5), critical_rh=1.0)  # ≈ 0.57
     rng = np.random.default_rng(7)
     good = 0.82 + 0.005 * rng.standard_normal(400)
@@ -304,15 +326,131 @@ def test_assess_frsi_risk_levels_and_design_state():
         assess_frsi(good, mould, cond, 5.0, 10.0, 0.5)
 
 
+# ------------------------------------------------------- factor at the design convention
+def test_design_convention_resistances():
+    # ISO 13788:2012 §4 (clause from memory): 0.25 m²K/W opaque, 0.13 m²K/W glazing and frames
+    assert (R_SI_DESIGN_OPAQUE, R_SI_DESIGN_GLAZING) == (0.25, 0.13)
+    assert design_surface_resistance("wall") == 0.25
+    assert design_surface_resistance("Ceiling") == 0.25
+    assert design_surface_resistance("door") == 0.25  # an opaque door
+    assert design_surface_resistance("window") == 0.13
+    with pytest.raises(ValueError, match="element kind"):
+        design_surface_resistance("")
+
+
+def test_design_factor_by_hand():
+    # Missing batt, U = 1.6 W/m²K, ΔT = 20 K, survey-night Rsi = 0.13 (ISO 6946:2017 Table 7):
+    # q = 32 W/m², θsi = 20 - 32 * 0.13 = 15.84 °C. By hand: measured f = 15.84/20 = 0.792;
+    # R' = 15.84/32 = 0.495 m²K/W; design f = 0.495/(0.495 + 0.25) = 0.66443 (ISO 13788 /
+    # BRE IP 1/06 convention, Rsi 0.25); glazing: 0.495/0.625 = 0.792.
+    assert temperature_factor(15.84, 20.0, 0.0) == pytest.approx(0.792, rel=1e-12)
+    assert design_temperature_factor(32.0, 15.84, 0.0) == pytest.approx(0.495 / 0.745, rel=1e-12)
+    assert design_temperature_factor(32.0, 15.84, 0.0, 0.13) == pytest.approx(0.792, rel=1e-12)
+    # the same number from the measured factor and the night's Rsi (1-D network rearranged)
+    assert design_factor_from_measured(0.792, 0.13) == pytest.approx(0.495 / 0.745, rel=1e-12)
+    # steady 1-D wall: f_design = 1 - 0.25 U_d exactly, U_d = 1/(1/U - 0.13 + 0.25) the
+    # transmittance with the convention's Rsi (ISO 13788 §3 definition with Rsi 0.25)
+    u = np.array([0.18, 0.35, 1.0, 2.1])
+    q = u * 23.0
+    t_si = 20.0 - q * 0.13
+    u_d = 1.0 / (1.0 / u - 0.13 + 0.25)
+    np.testing.assert_allclose(design_temperature_factor(q, t_si, -3.0), 1.0 - 0.25 * u_d,
+                               rtol=1e-12)
+    # heat gained by the surface or a surface colder than outdoors: no factor
+    f = design_temperature_factor(np.array([-5.0, 0.0, 10.0]), np.array([25.0, 20.0, -1.0]), 0.0)
+    assert np.isnan(f).all()
+    with pytest.raises(ValueError, match="positive resistance"):
+        design_temperature_factor(32.0, 15.84, 0.0, 0.0)
+
+
+@settings(max_examples=200, deadline=None)
+@given(u=st.floats(0.1, 3.0), r_si=st.floats(0.08, 0.24))
+def test_design_factor_is_lower_than_measured_when_rsi_is_larger(u, r_si):
+    # 1-D network: f = R'/(R' + Rsi) falls as Rsi grows, so the convention's 0.25 gives a
+    # lower factor than any night's Rsi below it; checked against the closed form.
+    r_behind = 1.0 / u - r_si
+    if r_behind <= 0:
+        return
+    t_si = 20.0 - u * 20.0 * r_si
+    f_meas = temperature_factor(t_si, 20.0, 0.0)
+    f_design = design_temperature_factor(u * 20.0, t_si, 0.0)
+    assert f_design < f_meas
+    assert f_design == pytest.approx(r_behind / (r_behind + 0.25), rel=1e-9)
+
+
+def test_design_factor_map_uses_each_kind():
+    class Reg:
+        def __init__(self, kind, mask):
+            self.kind, self.mask, self.name = kind, mask, kind
+
+    m_wall = np.zeros((2, 3), bool)
+    m_wall[:, :2] = True
+    regions = {"w": Reg("wall", m_wall), "g": Reg("window", ~m_wall)}
+    q = np.full((2, 3), 32.0)
+    t = np.full((2, 3), 15.84)
+    f = design_factor_map(q, t, 0.0, regions)
+    np.testing.assert_allclose(f[:, :2], 0.495 / 0.745)  # opaque, Rsi 0.25 (hand, above)
+    np.testing.assert_allclose(f[:, 2], 0.792)  # glazing, Rsi 0.13
+
+
+def _demo_mould_limit():
+    # the invented demo climate (example_house/survey.toml): humidity class 3, 21 °C inside
+    t_e = [2.4, 2.9, 5.0, 7.6, 11.0, 14.1, 16.2, 15.9, 13.2, 9.7, 5.6, 3.0]
+    rh_e = [0.88, 0.85, 0.81, 0.76, 0.75, 0.76, 0.77, 0.79, 0.82, 0.86, 0.89, 0.9]
+    return frsi_limit(t_e, rh_e, 21.0, IndoorHumidity("humidity_class", humidity_class=3))
+
+
+@pytest.mark.parametrize(("limit", "source"), [
+    (fixed_limit("bre-ip1-06-dwellings"), "BRE IP 1/06 Table 1: 0.75, Rsi 0.25 (from memory)"),
+    (fixed_limit("din-4108-2"), "DIN 4108-2:2013 §6.2: 0.70, Rsi 0.25 (from memory)"),
+    (_demo_mould_limit(), "ISO 13788:2012 §5 procedure, class 3, demo climate: about 0.71"),
+])
+def test_measured_factor_above_the_limit_but_design_factor_below(limit, source):
+    # The demo's missing batt (U 1.6 W/m²K) under a survey-night Rsi of 0.15 m²K/W (still air,
+    # natural convection lower than ISO 6946's 2.5 W/m²K): by hand, measured
+    # f = 1 - 1.6 * 0.15 = 0.76; R' = 1/1.6 - 0.15 = 0.475; design f = 0.475/0.725 = 0.655.
+    # 0.76 is above each limit ("no risk" on the measured factor), 0.655 below each.
+    assert 0.70 <= limit.value <= 0.75, source
+    cond = frsi_limit(np.full(12, -5.0), np.full(12, 0.8), 20.0,
+                      IndoorHumidity("measured", rh=0.5), critical_rh=1.0)  # ≈ 0.57
+    rng = np.random.default_rng(3)
+    u = 1.6 + 0.01 * rng.standard_normal(300)
+    t_si = 20.0 - u * 20.0 * 0.15
+    q = u * 20.0
+    f_meas = temperature_factor(t_si, 20.0, 0.0)
+    f_design = design_temperature_factor(q, t_si, 0.0)
+    assert np.percentile(f_meas, 5) == pytest.approx(0.76, abs=0.005)
+    assert np.percentile(f_design, 5) == pytest.approx(0.655, abs=0.005)
+    old = assess_frsi(f_meas, limit, cond, 20.0, -5.0, 0.5)
+    assert old.risk == "none" and old.judged_on == "measured night"
+    assert "not conservative" in old.note
+    v = assess_frsi(f_meas, limit, cond, 20.0, -5.0, 0.5, frsi_design_values=f_design)
+    assert v.risk == "mould", source
+    assert v.judged_on == "design convention" and "design convention" in v.note
+    assert v.frsi_p05 == pytest.approx(old.frsi_p05)  # measured factor reported beside
+    assert v.frsi_design_p05 < limit.value < v.frsi_p05
+    # the design surface state follows the judged (design) factor: θsi = θe + f ΔT
+    assert v.t_si_design_c == pytest.approx(-5.0 + v.frsi_design_p05 * 25.0, rel=1e-12)
+
+
+def test_worst_risk_orders_the_verdicts():
+    assert worst_risk(["none", "mould", "none"]) == "mould"
+    assert worst_risk(["mould", "condensation"]) == "condensation"
+    assert worst_risk([]) == "not assessed"
+    assert worst_risk([None, "none"]) == "none"
+    with pytest.raises(ValueError, match="unknown risk"):
+        worst_risk(["high"])
+
+
 # -------------------------------------------------------------------------- bad input
 def test_rh_in_percent_is_caught():
     with pytest.raises(SurveyError, match="got 55 — was it given in percent"):
         vapour_pressure(20.0, 55)
     with pytest.raises(SurveyError, match="percent"):
-        frsi_min(CLIMATE_T_E, [x * 100 for x in CLIMATE_RH_E], 20.0,
+        frsi_limit(CLIMATE_T_E, [x * 100 for x in CLIMATE_RH_E], 20.0,
                  IndoorHumidity("humidity_class", humidity_class=2))
     with pytest.raises(SurveyError, match="percent"):
-        frsi_min(CLIMATE_T_E, CLIMATE_RH_E, 20.0, IndoorHumidity("measured", rh=50))
+        frsi_limit(CLIMATE_T_E, CLIMATE_RH_E, 20.0, IndoorHumidity("measured", rh=50))
     with pytest.raises(SurveyError, match="fraction 0-1"):
         dew_point(20.0, -0.1)
 
@@ -320,20 +458,20 @@ def test_rh_in_percent_is_caught():
 @pytest.mark.parametrize("n", [11, 13])
 def test_monthly_arrays_need_twelve(n):
     with pytest.raises(SurveyError, match="monthly_t_e_c.*12 monthly values"):
-        frsi_min(np.zeros(n), np.full(12, 0.8), 20.0, IndoorHumidity("measured", rh=0.5))
+        frsi_limit(np.zeros(n), np.full(12, 0.8), 20.0, IndoorHumidity("measured", rh=0.5))
     with pytest.raises(SurveyError, match="monthly_rh_e"):
-        frsi_min(np.zeros(12), np.full(n, 0.8), 20.0, IndoorHumidity("measured", rh=0.5))
+        frsi_limit(np.zeros(12), np.full(n, 0.8), 20.0, IndoorHumidity("measured", rh=0.5))
 
 
 def test_missing_climate_and_indoor_colder():
     with pytest.raises(SurveyError, match="monthly_t_e_c is missing"):
-        frsi_min(None, None, 20.0, IndoorHumidity("measured", rh=0.5))
+        frsi_limit(None, None, 20.0, IndoorHumidity("measured", rh=0.5))
     with pytest.raises(SurveyError, match="rh_i is missing"):
-        frsi_min(CLIMATE_T_E, CLIMATE_RH_E, 20.0, IndoorHumidity("measured"))
+        frsi_limit(CLIMATE_T_E, CLIMATE_RH_E, 20.0, IndoorHumidity("measured"))
     with pytest.raises(SurveyError, match="indoor colder than outdoor"):
-        frsi_min(np.full(12, 25.0), np.full(12, 0.6), 20.0, IndoorHumidity("measured", rh=0.5))
+        frsi_limit(np.full(12, 25.0), np.full(12, 0.6), 20.0, IndoorHumidity("measured", rh=0.5))
     with pytest.raises(SurveyError, match="must be finite"):
-        frsi_min(np.r_[np.nan, np.zeros(11)], np.full(12, 0.8), 20.0,
+        frsi_limit(np.r_[np.nan, np.zeros(11)], np.full(12, 0.8), 20.0,
                  IndoorHumidity("measured", rh=0.5))
 
 

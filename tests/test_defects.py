@@ -23,7 +23,6 @@ from envelope.anomalies import (
     find_repetition,
     pixel_polygon,
     reference_level,
-    register_translation,
 )
 from envelope.condensation import temperature_factor
 from envelope.defects import (
@@ -35,6 +34,7 @@ from envelope.defects import (
     rank_defects,
 )
 from envelope.radiometry import object_temperature
+from envelope.registration import register_translation
 from envelope.synth import render_apparent, surface_temperature_for_u
 from envelope.transmittance import heat_flux_interior
 
@@ -225,7 +225,7 @@ def _defect(risk, kwh, x=0.0):
                   confidence={"unexplained": 1.0}, reasons=["r"], area_m2=0.1, length_m=0.3,
                   width_m=0.3, orientation_deg=0.0, junction=None, extra_w=1.0,
                   extra_w_std=0.1, psi_w_mk=None, chi_w_k=0.05, incidence_factor=1.2,
-                  kwh_per_year=kwh, frsi_min=0.6, frsi_p05=0.62, risk=risk, score_risk=0,
+                  annual_kwh=kwh, frsi_min=0.6, frsi_p05=0.62, risk=risk, score_risk=0,
                   score_energy_kwh=0.0, rank=0, centroid_px=(x, 0.0), bbox_px=(0, 0, 1, 1))
 
 
@@ -323,7 +323,7 @@ def test_exterior_view_finds_warm_strip_with_its_psi():
     assert len(found) == 1 and found[0].defect_class == "linear thermal bridge"
     assert found[0].orientation_deg == pytest.approx(90.0, abs=1.0)
     assert found[0].psi_w_mk == pytest.approx(0.8 * 0.10, rel=0.05)
-    assert found[0].risk == "none"  # interior fRsi not measured on an exterior view
+    assert found[0].risk == "not assessed"  # interior fRsi not measured on an exterior view
 
 
 def test_ceiling_patch_is_missing_insulation():

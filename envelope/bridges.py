@@ -1,0 +1,522 @@
+"""Excess heat of thermal bridges and other defects from a surface heat-flux map.
+
+The extra heat flow of a defect is the excess surface heat flux over the undisturbed flux
+of each element, integrated over an integration zone (O'Grady et al. [1]). The zone grows
+from the defect's seed (its thresholded region) ring by ring, across the junction into the
+neighbouring element where that is in view, until the excess of the rings falls to the
+noise level (or to a small fraction of the excess on the seed), and never beyond a cut-off
+no shorter than the 1 m cut-off planes of ISO 10211 [2]. The zones of one thermogram never
+overlap: each pixel belongs to the zone of its nearest seed at most.
+
+Each element's undisturbed area is its mask (or its reference zone) without every defect's
+zone; its undisturbed flux is the area-weighted mean over that area. With those, the
+element's whole heat flow splits exactly into U·A and the defects' extra heat (no double
+counting; `undisturbed_masks`, `reference_fluxes`).
+
+psi is the extra heat flow per kelvin per metre of junction, with **internal dimensions**:
+the excess is integrated over the internal surfaces of both sides of the junction, which is
+``L2D - Σ U_j l_j,int`` of ISO 10211 [2] / ISO 14683 [3]; `psi_internal_to_external`
+converts it. The length psi is divided by is the bridge's run along its junction
+(`envelope.junctions.extend_along`), the `length_m` reported.
+
+References
+----------
+[1] M. O'Grady, A. A. Lechowska and A. M. Harte, "Infrared thermography technique as an
+    in-situ method of assessing heat loss through thermal bridging", Energy and Buildings
+    135 (2017) 20–32, doi:10.1016/j.enbuild.2016.11.039.
+[2] ISO 10211:2017, Thermal bridges in building construction -- Heat flows and surface
+    temperatures -- Detailed calculations (cut-off planes; psi = L2D - Σ U_j l_j; clause
+    numbers from memory, so not given).
+[3] ISO 14683:2017, Thermal bridges in building construction -- Linear thermal
+    transmittance -- Simplified methods and default values (dimension systems).
+[4] F. Asdrubali, G. Baldinelli and F. Bianchi, "A quantitative methodology to evaluate
+    thermal bridges in buildings", Applied Energy 97 (2012) 365–373,
+    doi:10.1016/j.apenergy.2011.12.054.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import ndimage
+
+__all__ = [
+    "MAD_TO_SIGMA",
+    "Zone",
+    "reference_flux",
+    "reference_fluxes",
+    "undisturbed_masks",
+    "ZoneGeometry",
+    "zone_geometry",
+    "integration_zones",
+    "excess_heat",
+    "incidence_factor",
+    "psi_internal_to_external",
+]
+
+MAD_TO_SIGMA = 1.4826
+"""Scale from the median absolute deviation to sigma for normally distributed data."""
+
+
+@dataclass
+class Zone:
+    """An integration zone: a boolean mask inside bounding slices of the full frame.
+
+    ``distance_m`` is how far beyond the seed the integration reached [m] and ``stop`` why
+    it stopped: "noise" (the rings' excess fell to the noise level), "tail fraction" (to
+    the fraction of the seed's excess), "cut-off" (the cut-off distance), "no more pixels"
+    (the element ends) or "seed only" (not grown: no excess on the seed, or a warm spot).
+    """
+
+    slices: tuple[slice, slice]
+    mask: np.ndarray
+    distance_m: float = 0.0
+    stop: str = "seed only"
+    frame_shape: tuple[int, int] | None = None
+    """Shape of the full frame (set by `integration_zones`), for `full_mask`."""
+
+    @classmethod
+    def from_full(cls, full_mask, distance_m: float = 0.0, stop: str = "seed only") -> Zone:
+        m = np.asarray(full_mask, bool)
+        rows = np.flatnonzero(m.any(axis=1))
+        cols = np.flatnonzero(m.any(axis=0))
+        if rows.size == 0:
+            return cls((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool), distance_m, stop)
+        sl = (slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1))
+        return cls(sl, m[sl].copy(), distance_m, stop, m.shape)
+
+    @classmethod
+    def from_box(cls, box, mask, distance_m: float = 0.0, stop: str = "seed only") -> Zone:
+        """The zone of `mask`, given inside the slices `box` of the full frame (trimmed)."""
+        m = np.asarray(mask, bool)
+        rows = np.flatnonzero(m.any(axis=1))
+        cols = np.flatnonzero(m.any(axis=0))
+        if rows.size == 0:
+            return cls((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool), distance_m, stop)
+        r0, c0 = box[0].start, box[1].start
+        sl = (slice(r0 + int(rows[0]), r0 + int(rows[-1]) + 1),
+              slice(c0 + int(cols[0]), c0 + int(cols[-1]) + 1))
+        inner = (slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1))
+        return cls(sl, m[inner].copy(), distance_m, stop)
+
+    def full(self, shape=None) -> np.ndarray:
+        """The zone as a full-frame boolean mask of `shape` (default: `frame_shape`)."""
+        shape = self.frame_shape if shape is None else shape
+        if shape is None:
+            raise ValueError("the zone does not know its frame: give shape")
+        out = np.zeros(shape, dtype=bool)
+        out[self.slices] = self.mask
+        return out
+
+    @property
+    def n_px(self) -> int:
+        return int(self.mask.sum())
+
+
+def _box_of(mask):
+    """Bounding slices of a boolean mask (None when empty), from two cheap reductions."""
+    rows = np.flatnonzero(mask.any(axis=1))
+    if rows.size == 0:
+        return None
+    cols = np.flatnonzero(mask.any(axis=0))
+    return slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1)
+
+
+def _nonzero(mask):
+    """``np.nonzero`` of a 2-D mask, searched inside its bounding box only."""
+    box = _box_of(mask)
+    if box is None:
+        return np.zeros(0, np.int64), np.zeros(0, np.int64)
+    r, c = np.nonzero(mask[box])
+    return r + box[0].start, c + box[1].start
+
+
+def _int_labels(labels) -> np.ndarray:
+    """Element labels as an integer array (no copy when they already are)."""
+    arr = np.asarray(labels)
+    return arr if arr.dtype.kind in "iu" else arr.astype(np.intp)
+
+
+def _check_maps(q_w_m2, area_map_m2):
+    q = np.asarray(q_w_m2, dtype=float)
+    a = np.asarray(area_map_m2, dtype=float)
+    if q.ndim != 2 or q.shape != a.shape:
+        raise ValueError(f"q_w_m2 {q.shape} and area_map_m2 {a.shape} must be 2-D of one shape")
+    return q, a
+
+
+def reference_flux(q_w_m2, area_map_m2, mask) -> tuple[float, float, int]:
+    """Undisturbed heat flux of a zone: area-weighted mean [W/m²], robust spread, pixels.
+
+    Returns
+    -------
+    mean_w_m2, sigma_w_m2, n_px
+        ``Σ q A / Σ A`` over the valid pixels of `mask`; ``1.4826 MAD`` of q there (the
+        pixel-to-pixel noise, robust to a few odd pixels; from an even subsample of at most
+        about 5 000 pixels, 1.4 % standard error); their number. NaN, NaN, 0 for an empty zone.
+    """
+    q, a = _check_maps(q_w_m2, area_map_m2)
+    m = np.asarray(mask, bool)
+    rows = np.flatnonzero(m.any(axis=1))
+    if rows.size == 0:
+        return math.nan, math.nan, 0
+    cols = np.flatnonzero(m.any(axis=0))
+    box = (slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1))
+    q, a = q[box], a[box]
+    m = m[box] & np.isfinite(q) & np.isfinite(a)
+    if not m.any():
+        return math.nan, math.nan, 0
+    qv, av = q[m], a[m]
+    mean = float(np.sum(qv * av) / np.sum(av))
+    sub = qv[::max(1, qv.size // 5000)]  # the spread from at most ~5 000 pixels
+    sigma = float(MAD_TO_SIGMA * np.median(np.abs(sub - np.median(sub))))
+    return mean, sigma, int(qv.size)
+
+
+def undisturbed_masks(element_masks: dict, zones, reference_masks: dict | None = None) -> dict:
+    """One undisturbed mask per element: its reference zone (or mask) minus every zone.
+
+    Parameters
+    ----------
+    element_masks : dict name -> bool (H, W)
+    zones : iterable of `Zone` or bool (H, W)
+        The integration zones of every defect of the thermogram (warm spots included).
+    reference_masks : dict name -> bool (H, W) or None, optional
+        The user's reference zones, where drawn.
+
+    Returns
+    -------
+    dict name -> bool (H, W)
+        The pixels that U, the defects' reference flux and the energy case all use.
+    """
+    shape = None
+    for m in element_masks.values():
+        shape = np.shape(m)
+        break
+    if shape is None:
+        return {}
+    taken = np.zeros(shape, dtype=bool)
+    for z in zones:
+        taken |= z.full(shape) if isinstance(z, Zone) else np.asarray(z, bool)
+    out = {}
+    for name, m in element_masks.items():
+        ref = None if reference_masks is None else reference_masks.get(name)
+        base = np.asarray(ref, bool) if ref is not None and np.any(ref) else np.asarray(m, bool)
+        out[name] = base & ~taken
+    return out
+
+
+def reference_fluxes(q_w_m2, area_map_m2, masks: dict) -> dict:
+    """`reference_flux` of each element's undisturbed mask: name -> (mean, sigma, n_px)."""
+    return {name: reference_flux(q_w_m2, area_map_m2, m) for name, m in masks.items()}
+
+
+def _pixel_size(area):
+    ok = np.isfinite(area) & (area > 0)
+    sub = area[::7, ::7]
+    sub = sub[np.isfinite(sub) & (sub > 0)]
+    med = float(np.sqrt(np.median(sub))) if sub.size else (
+        float(np.sqrt(np.median(area[ok]))) if ok.any() else 1.0)
+    return np.where(ok, np.sqrt(np.where(ok, area, 1.0)), med), med
+
+
+@dataclass
+class ZoneGeometry:
+    """What the zones of one set of seeds share whatever the reference flux: each pixel's
+    nearest seed, its ring, and each seed's cell (reused across the passes of
+    `envelope.defects.find_defects`; built by `zone_geometry`)."""
+
+    seed_id: np.ndarray
+    ring: np.ndarray
+    ring_m: float
+    max_ring: int
+    boxes: list
+    cells: np.ndarray
+    valid: np.ndarray
+    n_seeds: int
+
+
+def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
+                  cutoff_m: float = 2.0) -> ZoneGeometry:
+    """Nearest seed, ring index and cell of every pixel for `integration_zones`.
+
+    Every pixel goes to its nearest seed (Euclidean distance transform); its distance d
+    [m] (pixels times the local pixel size) puts it in ring ``ceil(d / s)`` of width s, the
+    median pixel size. A seed's cell holds the valid pixels nearest to it within the
+    cut-off.
+    """
+    a = np.asarray(area_map_m2, dtype=float)
+    labels = _int_labels(labels)
+    shape = a.shape
+    if labels.shape != shape:
+        raise ValueError(f"labels {labels.shape} must have the image's shape {shape}")
+    if not cutoff_m >= 1.0:
+        raise ValueError(f"cutoff_m must be >= 1 m (ISO 10211 cut-off planes), got {cutoff_m}")
+    seed_id = np.zeros(shape, dtype=np.int32)
+    for k, s in enumerate(seeds):
+        s = np.asarray(s, bool)
+        if s.shape != shape:
+            raise ValueError(f"seed {k} has shape {s.shape}, the image {shape}")
+        seed_id[s & (seed_id == 0)] = k + 1
+    valid = (labels >= 0) & np.isfinite(a)
+    if q_w_m2 is not None:
+        valid &= np.isfinite(np.asarray(q_w_m2, dtype=float))
+    if allowed is not None:
+        valid &= np.asarray(allowed, bool)
+    pix, ring_m = _pixel_size(a)
+    max_ring = int(math.ceil(cutoff_m / ring_m))
+    if (seed_id > 0).all() or not (seed_id > 0).any():
+        ring = np.zeros(shape, dtype=np.int32)
+        nearest = seed_id
+    else:
+        dist_px, (ir, ic) = ndimage.distance_transform_edt(seed_id == 0, return_indices=True)
+        nearest = seed_id[ir, ic]
+        ring = np.minimum(np.ceil(dist_px * pix / ring_m - 1e-9), max_ring + 1).astype(np.int32)
+    cells = np.where((valid & (ring <= max_ring)) | (seed_id > 0), nearest, 0)
+    boxes = ndimage.find_objects(cells, max_label=len(seeds))
+    return ZoneGeometry(seed_id, ring, ring_m, max_ring, boxes, cells, valid, len(seeds))
+
+
+def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_m2,
+                      allowed=None, grow=None, cutoff_m: float = 2.0, noise_z: float = 2.0,
+                      ring_window_m: float = 0.03, tail_fraction: float = 0.005,
+                      geometry: ZoneGeometry | None = None) -> list[Zone]:
+    """Integration zones of the defects of one thermogram, grown from their seeds.
+
+    Parameters
+    ----------
+    q_w_m2 : ndarray (H, W)
+        Surface heat flux through the elements [W/m²] (positive through the element).
+    area_map_m2 : ndarray (H, W)
+        Area of each pixel on its element's plane [m²/px].
+    seeds : sequence of bool (H, W)
+        Each defect's seed: its thresholded region (for a junction, its fragments and the
+        gaps between them).
+    labels : int ndarray (H, W)
+        Index of each pixel's element (into `q_ref_w_m2`), -1 outside every element.
+    q_ref_w_m2, q_sigma_w_m2 : array_like
+        Undisturbed flux [W/m²] and its pixel-to-pixel spread [W/m²] per element index.
+    allowed : bool (H, W), optional
+        Pixels a zone may grow into (default: every labelled pixel). Leave openings out.
+    grow : sequence of bool, optional
+        False for seeds that are not grown (warm spots); default all True.
+    cutoff_m : float
+        Farthest distance from the seed [m], >= 1 (ISO 10211 cut-off planes).
+    noise_z : float
+        A window of rings is noise when its mean excess is within ``noise_z`` standard
+        errors of zero.
+    ring_window_m : float
+        Width of the window of rings tested [m].
+    tail_fraction : float
+        Stop also when the rings' excess falls under this fraction of the seed's.
+    geometry : ZoneGeometry, optional
+        `zone_geometry` of the same seeds, labels, allowed pixels and cut-off (saves the
+        distance transform when only the reference flux changed).
+
+    Returns
+    -------
+    list of Zone
+        One per seed, disjoint.
+
+    Notes
+    -----
+    Rings as in `zone_geometry`. For rings r... r + w - 1 (``w`` rings span
+    `ring_window_m`) the area-weighted mean excess ``ē = Σ (q - q_ref) A / Σ A`` and its
+    standard error ``σ_ē = sqrt(Σ σ² A²) / Σ A`` are compared with ``max(noise_z σ_ē,
+    tail_fraction ē_seed)``; the zone is the seed and the rings before the first window at
+    or under it. An exponential tail exp(-d/λ) stopped at a fraction f of its start leaves
+    f of its integral out.
+    """
+    q, a = _check_maps(q_w_m2, area_map_m2)
+    labels = _int_labels(labels)
+    for name, v in (("noise_z", noise_z), ("ring_window_m", ring_window_m),
+                    ("tail_fraction", tail_fraction)):
+        if not v >= 0:
+            raise ValueError(f"{name} must be >= 0, got {v}")
+    q_ref = np.asarray(q_ref_w_m2, dtype=float).ravel()
+    q_sig = np.asarray(q_sigma_w_m2, dtype=float).ravel()
+    grow = [True] * len(seeds) if grow is None else [bool(g) for g in grow]
+    if len(grow) != len(seeds):
+        raise ValueError("grow must have one entry per seed")
+    if not len(seeds):
+        return []
+    g = geometry if geometry is not None else zone_geometry(
+        seeds, a, labels, allowed, q, cutoff_m)
+    if g.n_seeds != len(seeds) or g.seed_id.shape != q.shape:
+        raise ValueError("geometry was built for other seeds or another image")
+    ring_m, max_ring = g.ring_m, g.max_ring
+    win = max(1, int(round(ring_window_m / ring_m)))
+    sig2 = np.where(np.isfinite(q_sig), q_sig, 0.0) ** 2
+    zones = []
+    for k in range(len(seeds)):
+        box = g.boxes[k]
+        if box is None:
+            zones.append(Zone((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool)))
+            continue
+        lab = labels[box]
+        qb, ab = q[box], a[box]
+        inside = lab >= 0
+        seed_box = (g.seed_id[box] == k + 1) & inside & np.isfinite(qb) & np.isfinite(ab)
+        if not seed_box.any():
+            zones.append(Zone((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool)))
+            continue
+        labc = np.where(inside, lab, 0)
+        exc = qb - q_ref[labc]
+        a_seed = ab[seed_box]
+        peak = float(np.sum(exc[seed_box] * a_seed) / np.sum(a_seed)) if a_seed.sum() > 0 \
+            else math.nan
+        if not grow[k] or not peak > 0:
+            zones.append(Zone.from_box(box, seed_box, 0.0, "seed only"))
+            continue
+        ring = g.ring[box]
+        cand = g.valid[box] & (g.cells[box] == k + 1) & (ring > 0) & (ring <= max_ring)
+        r = ring[cand]
+        av = ab[cand]
+        s_a = np.bincount(r, weights=av, minlength=max_ring + 2)
+        s_e = np.bincount(r, weights=exc[cand] * av, minlength=max_ring + 2)
+        s_v = np.bincount(r, weights=sig2[labc[cand]] * av * av, minlength=max_ring + 2)
+        c_a, c_e, c_v = (np.concatenate([[0.0], np.cumsum(x)]) for x in (s_a, s_e, s_v))
+        r0 = np.arange(1, max_ring + 1)
+        r1 = np.minimum(r0 + win, max_ring + 1)
+        w_a = c_a[r1] - c_a[r0]
+        w_e = c_e[r1] - c_e[r0]
+        w_v = c_v[r1] - c_v[r0]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            mean = w_e / w_a
+            noise = np.sqrt(w_v) / w_a
+        floor = tail_fraction * peak
+        thr = np.maximum(noise_z * noise, floor)
+        stop_at = np.flatnonzero((w_a <= 0) | ~(mean > thr))
+        if stop_at.size:
+            i = int(stop_at[0])
+            r_stop = int(r0[i])
+            reason = ("no more pixels" if w_a[i] <= 0 else
+                      "noise" if noise_z * noise[i] >= floor else "tail fraction")
+        else:
+            r_stop, reason = max_ring + 1, "cut-off"
+        zone_box = seed_box | (cand & (ring < r_stop))
+        zones.append(Zone.from_box(box, zone_box, (r_stop - 1) * ring_m, reason))
+    for z in zones:
+        z.frame_shape = q.shape
+    return zones
+
+
+def excess_heat(q_w_m2, area_map_m2, zone, labels, q_ref_w_m2, q_sigma_w_m2=None,
+                n_ref_px=None, u_rel_std=None) -> dict:
+    """Extra heat flow of a defect over its zone, per element, with its uncertainty.
+
+    Parameters
+    ----------
+    q_w_m2, area_map_m2 : ndarray (H, W)
+        Surface heat flux [W/m²] and pixel area [m²/px].
+    zone : Zone or bool (H, W)
+    labels : int ndarray (H, W)
+        Element index of each pixel (-1 outside).
+    q_ref_w_m2 : array_like
+        Undisturbed flux per element index [W/m²].
+    q_sigma_w_m2, n_ref_px : array_like, optional
+        Pixel spread of q [W/m²] and number of undisturbed pixels per element index.
+    u_rel_std : float, optional
+        Relative standard uncertainty common to the whole flux map (film coefficients,
+        emissivity) [-].
+
+    Returns
+    -------
+    dict
+        ``extra_w`` [W], ``extra_by_label`` {index: W}, ``extra_w_std`` [W],
+        ``zone_area_m2`` [m²], ``area_by_label`` {index: m²}.
+
+    Notes
+    -----
+    ``Q_extra = Σ_Z (q - q_ref,j) A`` (after [1], with each element's own reference).
+    Uncertainty, added in quadrature: pixel noise ``sqrt(Σ σ_j² A²)``; the reference
+    means ``σ_j A_Z,j / sqrt(N_j)`` per element; the common relative part
+    ``u_rel |Q_extra|``. Pixels are taken as independent (spatially correlated texture
+    makes the first two optimistic).
+    """
+    q, a = _check_maps(q_w_m2, area_map_m2)
+    labels = _int_labels(labels)
+    if not isinstance(zone, Zone):
+        zone = Zone.from_full(zone)
+    box = zone.slices
+    q, a, labels = q[box], a[box], labels[box]
+    m = zone.mask & (labels >= 0) & np.isfinite(q) & np.isfinite(a)
+    q_ref = np.asarray(q_ref_w_m2, dtype=float).ravel()
+    lab = labels[m]
+    av = a[m]
+    e = (q[m] - q_ref[lab]) * av
+    n_lab = q_ref.size
+    by = np.bincount(lab, weights=e, minlength=n_lab)
+    area_by = np.bincount(lab, weights=av, minlength=n_lab)
+    extra = float(by.sum())
+    var = 0.0
+    if q_sigma_w_m2 is not None:
+        sg = np.asarray(q_sigma_w_m2, dtype=float).ravel()
+        sgv = np.where(np.isfinite(sg), sg, 0.0)
+        var += float(np.sum(sgv[lab] ** 2 * av**2))
+        if n_ref_px is not None:
+            n = np.maximum(np.asarray(n_ref_px, dtype=float).ravel(), 1.0)
+            var += float(np.sum((sgv * area_by) ** 2 / n))
+    if u_rel_std is not None and np.isfinite(u_rel_std):
+        var += (float(u_rel_std) * extra) ** 2
+    return {"extra_w": extra,
+            "extra_by_label": {int(i): float(by[i]) for i in np.flatnonzero(area_by > 0)},
+            "extra_w_std": math.sqrt(var), "zone_area_m2": float(av.sum()),
+            "area_by_label": {int(i): float(area_by[i]) for i in np.flatnonzero(area_by > 0)}}
+
+
+def incidence_factor(extra_w: float, q_ref_w_m2, area_m2) -> tuple[float, float]:
+    """Incidence factor of a thermal bridge on the area it refers to (Asdrubali et al. [4]).
+
+    Parameters
+    ----------
+    extra_w : float
+        Extra heat flow of the bridge [W].
+    q_ref_w_m2, area_m2 : array_like
+        Undisturbed flux [W/m²] and in-view area [m²] of each element the bridge's zone
+        touches (its whole area in the thermogram, as in [4]).
+
+    Returns
+    -------
+    (incidence_factor, area_m2)
+        ``I = Q_tb / Q_1D = (Σ q_1D,j A_j + Q_extra) / Σ q_1D,j A_j`` [-] (the definition of [4]:
+        the heat flow through the area with the bridge over the heat flow without it) and
+        the area it refers to [m²]. The factor depends on that area, so both are reported;
+        other defects on the same area are not counted in this one's factor.
+    """
+    qr = np.asarray(q_ref_w_m2, dtype=float).ravel()
+    ar = np.asarray(area_m2, dtype=float).ravel()
+    if qr.shape != ar.shape:
+        raise ValueError("q_ref_w_m2 and area_m2 must have one entry per element")
+    q1d = float(np.sum(qr * ar))
+    total = float(ar.sum())
+    if not (np.isfinite(q1d) and q1d != 0):
+        return math.nan, total
+    return (q1d + float(extra_w)) / q1d, total
+
+
+def psi_internal_to_external(psi_int_w_mk: float, u_w_m2k, extra_length_m) -> float:
+    """psi with external dimensions from psi with internal dimensions [W/(m K)].
+
+    Parameters
+    ----------
+    psi_int_w_mk : float
+        psi with internal dimensions (what the thermographic integration gives).
+    u_w_m2k : sequence of float
+        U of the flanking elements [W/(m² K)].
+    extra_length_m : sequence of float
+        For each flanking element, its external length minus its internal length in the
+        section [m] (e.g. the thickness of the other element at a corner).
+
+    Notes
+    -----
+    ``L2D = psi_e + Σ U_j l_j,e = psi_i + Σ U_j l_j,i`` ([2], the dimension systems of
+    [3]), so ``psi_e = psi_i - Σ U_j (l_j,e - l_j,i)``.
+    """
+    u = np.asarray(u_w_m2k, dtype=float).ravel()
+    dl = np.asarray(extra_length_m, dtype=float).ravel()
+    if u.shape != dl.shape:
+        raise ValueError("u_w_m2k and extra_length_m must have one entry per element")
+    return float(psi_int_w_mk) - float(np.sum(u * dl))
