@@ -27,7 +27,7 @@ from envelope.stages.elements import design_conditions
 from envelope.stages.heat import energy_case, with_verdicts
 from envelope.stages.risk import frsi_limits
 from envelope.stages.series import assess_series
-from envelope.stages.view import assess_view
+from envelope.stages.view import assess_view, leak_airtightness
 from envelope.survey import Conditions, Survey
 from envelope.views import SurveyFolder, ViewSource
 
@@ -110,6 +110,12 @@ def assess_survey(survey: Survey, *, source: ViewSource | None = None,
     design = design_conditions(survey.climate, c, mould)
     hdd = survey.climate.heating_degree_days_kd
     hdd = math.nan if hdd is None else hdd
+    junction_psi = {j.junction_type: j.psi_specified_w_mk for j in survey.junctions
+                    if j.psi_specified_w_mk is not None} or None
+    airtightness = leak_airtightness(survey.airtightness)
+    if airtightness is None:
+        notes.append("no blower-door result ([airtightness]): a leak's energy is only the "
+                     "conductive surface excess, a lower bound")
     pairs_by_dep = {p.depressurised: p for p in survey.pressure_pairs}
     pairs_by_base = {p.baseline: p for p in survey.pressure_pairs}
     views: dict[str, ViewResult] = {}
@@ -136,7 +142,8 @@ def assess_survey(survey: Survey, *, source: ViewSource | None = None,
                                      "depressurised view failed; air leakage not assessed there")
                 with clock.stage("view"):
                     vr = assess_view(cv, survey.elements, c, survey.camera, survey.analysis,
-                                     limits, design, hdd, checks, pair, sfile)
+                                     limits, design, hdd, checks, pair, sfile, junction_psi,
+                                     airtightness)
                 views[tg.id] = dataclasses.replace(vr, paired_with=p.depressurised if p else None)
         except SurveyError as exc:
             failures.append(Failure(tg.id, _file_of(survey, tg.file), str(exc)))

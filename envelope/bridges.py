@@ -42,6 +42,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import ndimage
 
+from envelope.zones import undisturbed_mask
+
 __all__ = [
     "MAD_TO_SIGMA",
     "Zone",
@@ -189,7 +191,8 @@ def undisturbed_masks(element_masks: dict, zones, reference_masks: dict | None =
     Returns
     -------
     dict name -> bool (H, W)
-        The pixels that U, the defects' reference flux and the energy case all use.
+        The pixels that U, the defects' reference flux and the energy case all use: the one
+        definition of `envelope.zones.undisturbed_mask`.
     """
     shape = None
     for m in element_masks.values():
@@ -197,15 +200,10 @@ def undisturbed_masks(element_masks: dict, zones, reference_masks: dict | None =
         break
     if shape is None:
         return {}
-    taken = np.zeros(shape, dtype=bool)
-    for z in zones:
-        taken |= z.full(shape) if isinstance(z, Zone) else np.asarray(z, bool)
-    out = {}
-    for name, m in element_masks.items():
-        ref = None if reference_masks is None else reference_masks.get(name)
-        base = np.asarray(ref, bool) if ref is not None and np.any(ref) else np.asarray(m, bool)
-        out[name] = base & ~taken
-    return out
+    full = [z.full(shape) if isinstance(z, Zone) else np.asarray(z, bool) for z in zones]
+    refs = reference_masks or {}
+    return {name: undisturbed_mask(m, refs.get(name), full)[0]
+            for name, m in element_masks.items()}
 
 
 def reference_fluxes(q_w_m2, area_map_m2, masks: dict) -> dict:

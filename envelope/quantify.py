@@ -91,7 +91,7 @@ class Defect:
     frsi_p05: float
     risk: str
     score_risk: int
-    score_energy_kwh: float
+    score_annual_kwh: float
     rank: int
     centroid_px: tuple[float, float]
     bbox_px: tuple[float, float, float, float]
@@ -135,11 +135,6 @@ class Defect:
     def zone_mask(self) -> np.ndarray | None:
         """The integration zone as a full-frame boolean mask (None without a zone)."""
         return None if self.zone is None else self.zone.full()
-
-    @property
-    def kwh_per_year(self) -> float:
-        """Old name of `annual_kwh` (results schema v1)."""
-        return self.annual_kwh
 
 
 @dataclass
@@ -286,7 +281,7 @@ def build_defect(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n
         orientation_deg=r0.orientation_deg, junction=jkind, extra_w=ex["extra_w"],
         extra_w_std=ex["extra_w_std"], psi_w_mk=psi, chi_w_k=chi, incidence_factor=inc,
         annual_kwh=h * hdd_kd * 24.0 / 1000.0, frsi_min=fmin, frsi_p05=fp05, risk=risk,
-        score_risk=0, score_energy_kwh=0.0, rank=0, centroid_px=(cx, cy),
+        score_risk=0, score_annual_kwh=0.0, rank=0, centroid_px=(cx, cy),
         bbox_px=(min(r.bbox_px[0] for r in members), min(r.bbox_px[1] for r in members),
                  max(r.bbox_px[2] for r in members), max(r.bbox_px[3] for r in members)),
         polygon=poly, notes=notes,
@@ -343,7 +338,7 @@ def warm_defect(region, level, thermogram_id, zone):
         width_m=region.width_m, orientation_deg=region.orientation_deg, junction=None,
         extra_w=0.0, extra_w_std=0.0, psi_w_mk=None, chi_w_k=None, incidence_factor=math.nan,
         annual_kwh=0.0, frsi_min=region.frsi_min, frsi_p05=region.frsi_p05, risk="none",
-        score_risk=0, score_energy_kwh=0.0, rank=0, centroid_px=region.centroid_px,
+        score_risk=0, score_annual_kwh=0.0, rank=0, centroid_px=region.centroid_px,
         bbox_px=region.bbox_px, polygon=region.polygon,
         notes=[WARM_NOTE, "left out of the element's undisturbed area and of its heat flow"],
         edge_distance_m=region.edge_distance_m, elongation=region.elongation,

@@ -27,7 +27,7 @@ def rank_defects(defects, assign_ids: bool = True):
     -------
     list of Defect
         Sorted; ``rank`` 1..N, ``score_risk`` (condensation 2, mould 1, none 0),
-        ``score_energy_kwh`` and ``score_text`` set in place.
+        ``score_annual_kwh`` and ``score_text`` set in place.
 
     Notes
     -----
@@ -39,13 +39,13 @@ def rank_defects(defects, assign_ids: bool = True):
     items = list(defects)
     for d in items:
         d.score_risk = RISK_SCORES.get(d.risk, 0)
-        d.score_energy_kwh = float(d.annual_kwh) if np.isfinite(d.annual_kwh) else 0.0
-    items.sort(key=lambda d: (-d.score_risk, -d.score_energy_kwh, d.thermogram, d.element,
+        d.score_annual_kwh = float(d.annual_kwh) if np.isfinite(d.annual_kwh) else 0.0
+    items.sort(key=lambda d: (-d.score_risk, -d.score_annual_kwh, d.thermogram, d.element,
                               d.centroid_px[1], d.centroid_px[0]))
     for i, d in enumerate(items, start=1):
         d.rank = i
         d.score_text = (f"risk: {d.risk} ({d.score_risk}) · energy: "
-                        f"{d.score_energy_kwh:.0f} kWh/yr")
+                        f"{d.score_annual_kwh:.0f} kWh/yr")
         if assign_ids:
             d.id = f"D{i}"
     return items
@@ -62,9 +62,7 @@ def defect_to_dict(d) -> dict:
     """JSON-ready dictionary of a defect: keys carry their units, no shapely objects or masks.
 
     The outline is the exterior ring of the region's polygon (its largest part when the
-    region is in several pieces) as ``[[x, y], ...]`` in pixel coordinates. ``class`` and
-    ``kwh_per_year`` repeat ``defect_class`` and ``annual_kwh`` under their schema-v1 names
-    until the results schema moves to v2.
+    region is in several pieces) as ``[[x, y], ...]`` in pixel coordinates.
     """
     poly = d.polygon
     outline, parts = [], []
@@ -74,7 +72,7 @@ def defect_to_dict(d) -> dict:
         outline = parts[0]
     return {
         "id": d.id, "thermogram": d.thermogram, "element": d.element, "rank": d.rank,
-        "defect_class": d.defect_class, "class": d.defect_class,
+        "defect_class": d.defect_class,
         "confidence": {k: round(float(v), 4) for k, v in d.confidence.items()},
         "reasons": list(d.reasons), "notes": list(d.notes),
         "area_m2": _num(d.area_m2), "length_m": _num(d.length_m), "width_m": _num(d.width_m),
@@ -93,7 +91,7 @@ def defect_to_dict(d) -> dict:
         "integration_distance_m": _num(d.integration_distance_m),
         "integration_stop": d.integration_stop, "zone_area_m2": _num(d.zone_area_m2),
         "h_w_k": _num(d.h_w_k), "air_h_w_k": _num(d.air_h_w_k),
-        "annual_kwh": _num(d.annual_kwh), "kwh_per_year": _num(d.annual_kwh),
+        "annual_kwh": _num(d.annual_kwh),
         "annual_kwh_air": _num(d.annual_kwh_air), "energy_lower_bound": bool(d.energy_lower_bound),
         "leak_flow_natural_m3_h": _num(d.leak_flow_natural_m3_h),
         "leak_flow_test_m3_h": _num(d.leak_flow_test_m3_h),
@@ -103,7 +101,7 @@ def defect_to_dict(d) -> dict:
         "psi_design_w_mk": _num(d.psi_design_w_mk), "psi_design_source": d.psi_design_source,
         "junction_verdict": d.junction_verdict,
         "junction_verdict_reason": d.junction_verdict_reason,
-        "score_risk": int(d.score_risk), "score_energy_kwh_per_year": _num(d.score_energy_kwh),
+        "score_risk": int(d.score_risk), "score_annual_kwh": _num(d.score_annual_kwh),
         "score_text": d.score_text,
         "pressure_difference_pa": _num(d.pressure_difference_pa),
         "cooling_k": _num(d.cooling_k),

@@ -154,14 +154,6 @@ def _heat_loss(energy) -> dict | None:
     return d
 
 
-_DEFECT_KEYS = {"class": "defect_class", "kwh_per_year": "annual_kwh",
-                "score_energy_kwh_per_year": "score_annual_kwh"}
-
-
-def _defect(d: dict) -> dict:
-    return {_DEFECT_KEYS.get(k, k): v for k, v in d.items()}
-
-
 def to_results(a) -> dict:
     """The results dict (schema version 2) of an `assess.Assessment`."""
     from envelope.defects import defect_to_dict
@@ -188,7 +180,7 @@ def to_results(a) -> dict:
         "frsi_limit": {"mould": _limit(a.limit_mould), "condensation": _limit(a.limit_condensation)},
         "thermograms": [_view(v, s.root) for v in a.views],
         "elements": [_element(e, a) for e in a.elements],
-        "defects": [_defect(defect_to_dict(d)) for d in a.defects],
+        "defects": [defect_to_dict(d) for d in a.defects],
         "heat_loss": _heat_loss(en),
         "heat_loss_after": None if en.after is None else en.after.to_dict(),
         "measures": [m.to_dict() for m in en.measures],

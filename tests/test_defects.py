@@ -203,7 +203,7 @@ def test_psi_of_strip_matches_one_dimensional_value(seed):
     expected = (u_strip - u_wall) * width_px * PX_M  # 0.108 W/(m K)
     assert d.psi_w_mk == pytest.approx(expected, rel=0.05)
     # kWh/yr = psi L HDD 24/1000 for the same band (definition of degree-days)
-    assert d.kwh_per_year == pytest.approx(d.psi_w_mk * w * PX_M * HDD * 24 / 1000, rel=1e-9)
+    assert d.annual_kwh == pytest.approx(d.psi_w_mk * w * PX_M * HDD * 24 / 1000, rel=1e-9)
 
 
 # --- registration ----------------------------------------------------------------------
@@ -226,7 +226,7 @@ def _defect(risk, kwh, x=0.0):
                   width_m=0.3, orientation_deg=0.0, junction=None, extra_w=1.0,
                   extra_w_std=0.1, psi_w_mk=None, chi_w_k=0.05, incidence_factor=1.2,
                   annual_kwh=kwh, frsi_min=0.6, frsi_p05=0.62, risk=risk, score_risk=0,
-                  score_energy_kwh=0.0, rank=0, centroid_px=(x, 0.0), bbox_px=(0, 0, 1, 1))
+                  score_annual_kwh=0.0, rank=0, centroid_px=(x, 0.0), bbox_px=(0, 0, 1, 1))
 
 
 def test_ranking_risk_first_then_energy():
@@ -234,13 +234,13 @@ def test_ranking_risk_first_then_energy():
              _defect("mould", 300.0), _defect("none", 20.0)]
     ranked = rank_defects(items)
     # hand-sorted: condensation(2) > mould(1) > none(0); then kWh/yr descending
-    assert [(d.risk, d.kwh_per_year) for d in ranked] == [
+    assert [(d.risk, d.annual_kwh) for d in ranked] == [
         ("condensation", 5.0), ("mould", 300.0), ("mould", 143.2), ("none", 500.0),
         ("none", 20.0)]
     assert [d.rank for d in ranked] == [1, 2, 3, 4, 5]
     assert [d.id for d in ranked] == ["D1", "D2", "D3", "D4", "D5"]
     assert ranked[2].score_text == "risk: mould (1) · energy: 143 kWh/yr"
-    assert (ranked[0].score_risk, ranked[3].score_energy_kwh) == (2, 500.0)
+    assert (ranked[0].score_risk, ranked[3].score_annual_kwh) == (2, 500.0)
 
 
 # --- pieces ----------------------------------------------------------------------------
@@ -347,5 +347,5 @@ def test_global_ranking_renumbers_ids_across_thermograms():
     b = rank_defects([_defect("none", 50.0)])
     assert [d.id for d in a + b] == ["D1", "D2", "D1"]
     merged = rank_defects(a + b)
-    assert [(d.id, d.risk, d.kwh_per_year) for d in merged] == [
+    assert [(d.id, d.risk, d.annual_kwh) for d in merged] == [
         ("D1", "mould", 1.0), ("D2", "none", 50.0), ("D3", "none", 10.0)]

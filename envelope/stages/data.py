@@ -152,7 +152,10 @@ class ElementResult:
     u_note: str = ""
     frsi_min: float | None = None
     frsi_p05: float | None = None
+    frsi_design_min: float | None = None
+    frsi_design_p05: float | None = None
     risk: str = "not assessed"
+    risk_judged_on: str | None = None
     risk_note: str = ""
     t_si_design_c: float | None = None
     rh_si_design: float | None = None
@@ -177,6 +180,7 @@ class ViewResult:
     error: str | None = None
     corrected: CorrectedView | None = None
     frsi: np.ndarray | None = None
+    frsi_design: np.ndarray | None = None
     u_map_w_m2k: np.ndarray | None = None
     elements: tuple[ElementResult, ...] = ()
     defects: tuple = ()

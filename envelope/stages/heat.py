@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+import math
 
 from envelope import budget, energy, retrofit, uncertainty, verdicts
 from envelope.errors import SurveyError
@@ -62,10 +63,21 @@ def best_per_element(results) -> dict[str, ElementResult]:
 
 
 def defect_losses(defects, delta_t_k: float) -> list:
-    """The defects that add heat loss (all but the unexplained) as `energy.DefectLoss`."""
-    return [energy.defect_loss(d.id, d.defect_class, d.extra_w, d.extra_w_std, d.psi_w_mk,
-                               d.chi_w_k, d.length_m, d.element, delta_t_k)
-            for d in defects if d.defect_class != "unexplained"]
+    """The defects that add heat loss (all but the unexplained) as `energy.DefectLoss`: each
+    defect's own part of H (psi·L, chi, or for a leak the larger of its air share and its
+    surface excess) with the standard uncertainty of its extra heat flow."""
+    out = []
+    for d in defects:
+        if d.defect_class == "unexplained":
+            continue
+        loss = energy.defect_loss(d.id, d.defect_class, d.extra_w, d.extra_w_std, d.psi_w_mk,
+                                  d.chi_w_k, d.length_m, d.element, delta_t_k)
+        h = getattr(d, "h_w_k", math.nan)
+        if h is not None and math.isfinite(h) and h != loss.h_w_k:
+            rel = loss.h_std_w_k / loss.h_w_k if loss.h_w_k else 0.0
+            loss = dataclasses.replace(loss, h_w_k=float(h), h_std_w_k=abs(float(h)) * rel)
+        out.append(loss)
+    return out
 
 
 def target_measures(measures, defects, usable: set[str], notes: list) -> list:

@@ -14,9 +14,6 @@ from envelope.survey import Climate, Conditions
 
 __all__ = ["frsi_limits", "element_risk"]
 
-RISK_ORDER = {"not assessed": -1, "none": 0, "mould": 1, "condensation": 2}
-"""Severity of the risk words (a defect's risk can only raise its element's)."""
-
 
 def frsi_limits(climate: Climate, conditions: Conditions, survey_file: str = "survey.toml"):
     """``(mould, condensation, note)``: the `FrsiLimit` pair for the site, or (None, None) and
@@ -34,28 +31,31 @@ def frsi_limits(climate: Climate, conditions: Conditions, survey_file: str = "su
         moisture_kg_h=cl.moisture_kg_h, air_changes_per_h=cl.air_changes_per_h,
         volume_m3=cl.volume_m3)
     try:
-        mould = condensation.frsi_min(cl.monthly_outdoor_c, cl.monthly_outdoor_rh, t_i, hum, 0.8)
-        cond = condensation.frsi_min(cl.monthly_outdoor_c, cl.monthly_outdoor_rh, t_i, hum, 1.0)
+        mould = condensation.frsi_limit(cl.monthly_outdoor_c, cl.monthly_outdoor_rh, t_i, hum, 0.8)
+        cond = condensation.frsi_limit(cl.monthly_outdoor_c, cl.monthly_outdoor_rh, t_i, hum, 1.0)
     except ValueError as exc:
         raise SurveyError(str(getattr(exc, "detail", exc)), survey_file, "climate") from None
     return mould, cond, None
 
 
 def element_risk(res: ElementResult, frsi_values, limits, design: DesignConditions,
-                 defect_risks=()) -> ElementResult:
+                 defect_risks=(), frsi_design_values=None) -> ElementResult:
     """The element result with its fRsi statistics and risk verdict filled in.
 
     Parameters
     ----------
     res : ElementResult
     frsi_values : ndarray
-        Finite fRsi values of the element's pixels [-].
+        Factor measured on the night, the element's finite pixels [-].
     limits : (FrsiLimit or None, FrsiLimit or None)
         Mould and condensation limits.
     design : DesignConditions
     defect_risks : iterable of str
         Risks of the defects found on this element: the element's verdict is at least its
         worst defect's.
+    frsi_design_values : ndarray, optional
+        The same pixels' factor at the design convention (Rsi 0.25 opaque, 0.13 glazing), on
+        which the verdict is judged (`condensation.assess_frsi`).
 
     Notes
     -----
@@ -66,16 +66,17 @@ def element_risk(res: ElementResult, frsi_values, limits, design: DesignConditio
     mould, cond = limits
     if mould is None or np.size(frsi_values) == 0:
         return res
-    note = ""
+    notes = []
     if res.kind == "window":
         mould = cond
-        note = "glazing: judged against the condensation limit only"
-    v = condensation.assess_frsi(frsi_values, mould, cond, design.t_i_c, design.t_e_c, design.rh_i)
-    risk = v.risk or "none"
-    worst = max(defect_risks, key=lambda r: RISK_ORDER.get(r, -1), default=None)
-    if worst is not None and RISK_ORDER.get(worst, -1) > RISK_ORDER.get(risk, -1):
-        risk = worst
-        note = "; ".join(x for x in (note, f"raised to {worst} by a defect on it") if x)
-    return dataclasses.replace(res, frsi_min=v.frsi_min, frsi_p05=v.frsi_p05, risk=risk,
-                               risk_note=note, t_si_design_c=v.t_si_design_c,
-                               rh_si_design=v.rh_si_design)
+        notes.append("glazing: judged against the condensation limit only")
+    v = condensation.assess_frsi(frsi_values, mould, cond, design.t_i_c, design.t_e_c,
+                                 design.rh_i, frsi_design_values=frsi_design_values)
+    risk = condensation.worst_risk([v.risk or "none", *defect_risks])
+    if risk != (v.risk or "none"):
+        notes.append(f"raised to {risk} by a defect on it")
+    return dataclasses.replace(res, frsi_min=v.frsi_min, frsi_p05=v.frsi_p05,
+                               frsi_design_min=v.frsi_design_min,
+                               frsi_design_p05=v.frsi_design_p05, risk=risk,
+                               risk_judged_on=v.judged_on, risk_note="; ".join(notes),
+                               t_si_design_c=v.t_si_design_c, rh_si_design=v.rh_si_design)

@@ -7,16 +7,13 @@ element's reference level) → each element's undisturbed area (`zones.undisturb
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping
 from dataclasses import replace
 
 import numpy as np
-from scipy import ndimage
 
-from envelope import budget, convection, zones
+from envelope import budget, condensation, convection, infiltration, zones
 from envelope import defects as defects_mod
-from envelope.outlines import rasterise
 from envelope.stages.data import CorrectedView, SurfaceFlux, ViewResult
 from envelope.stages.elements import (
     DesignConditions,
@@ -35,8 +32,24 @@ def _is_warm(d) -> bool:
     return d.defect_class == "unexplained" and defects_mod.WARM_NOTE in d.notes
 
 
-def view_defects(cv: CorrectedView, flux: SurfaceFlux, frsi, elements, conditions: Conditions,
-                 camera: Camera, analysis: Analysis, hdd_kd: float, limits, pair=None) -> list:
+SHIELDING = {"sheltered": "well-shielded", "normal": "normal", "exposed": "exposed"}
+"""Survey shielding words → those of `envelope.infiltration`."""
+
+
+def leak_airtightness(air) -> infiltration.Airtightness | None:
+    """The survey's blower-door result for the infiltration model, or None."""
+    if air is None or air.volume_m3 is None:
+        return None
+    return infiltration.Airtightness(
+        volume_m3=air.volume_m3, n50_per_h=air.n50_per_h, q50_m3_h_m2=air.q50_m3_h_m2,
+        envelope_area_m2=air.envelope_area_m2, storeys=float(air.storeys or 1),
+        shielding=SHIELDING.get(air.shielding, "normal"))
+
+
+def view_defects(cv: CorrectedView, flux: SurfaceFlux, frsi, frsi_design, elements,
+                 conditions: Conditions, camera: Camera, analysis: Analysis, hdd_kd: float,
+                 limits, pair=None, junction_psi=None, airtightness=None,
+                 checks_ok: bool = True) -> list:
     """Defects of one view (interior: cold anomalies of fRsi; exterior: warm ones)."""
     c = conditions
     dt = c.indoor_air_c - c.outdoor_air_c
@@ -60,32 +73,15 @@ def view_defects(cv: CorrectedView, flux: SurfaceFlux, frsi, elements, condition
     return defects_mod.find_defects(
         cv.object_c, frsi, flux.q_w_m2, cv.area_map_m2, cv.regions, cv.side, dt, hdd_kd,
         limits=lim, settings=settings, pair=pair, u_rel_std=u_rel,
-        thermogram_id=cv.thermogram.id)
-
-
-def _defect_zone(d, element_mask, area_map_m2) -> np.ndarray:
-    """The pixels a defect's extra heat was integrated over: its own ``zone_mask`` when the
-    defect carries one, else its outline widened by its integration band ``band_m``."""
-    zone = getattr(d, "zone_mask", None)
-    if zone is not None:
-        return zone
-    shape = element_mask.shape
-    if d.polygon is None:
-        return np.zeros(shape, bool)
-    own = rasterise(d.polygon, shape)
-    band_m = getattr(d, "band_m", 0.0) or 0.0
-    if band_m > 0 and own.any():
-        pixel_m = math.sqrt(float(np.median(area_map_m2[own])))
-        band_px = int(math.ceil(band_m / pixel_m)) if pixel_m > 0 else 0
-        if band_px > 0:
-            own = ndimage.distance_transform_edt(~own) <= band_px
-    return own & element_mask
+        thermogram_id=cv.thermogram.id, frsi_design=frsi_design, junction_psi=junction_psi,
+        airtightness=airtightness,
+        viewed_area_m2=sum(r.area_m2 for r in cv.regions.values()), checks_ok=checks_ok)
 
 
 def assess_view(cv: CorrectedView, elements: Mapping[str, Element], conditions: Conditions,
                 camera: Camera, analysis: Analysis, limits, design: DesignConditions,
-                hdd_kd: float, survey_checks, pair=None,
-                survey_file: str = "survey.toml") -> ViewResult:
+                hdd_kd: float, survey_checks, pair=None, survey_file: str = "survey.toml",
+                junction_psi=None, airtightness=None) -> ViewResult:
     """One corrected view → its `ViewResult` (element results and defects).
 
     Parameters
@@ -102,19 +98,30 @@ def assess_view(cv: CorrectedView, elements: Mapping[str, Element], conditions: 
     survey_checks : sequence of Check
     pair : (ndarray, float), optional
         Depressurised image of the same view [°C] and its pressure difference [Pa].
+    junction_psi : dict, optional
+        Junction type → specified psi [W/(m·K)] (the survey's junctions).
+    airtightness : infiltration.Airtightness, optional
+        Blower-door result: leaks then carry their air's heat.
     """
     c = conditions
     dt = c.indoor_air_c - c.outdoor_air_c
     flux = surface_flux(cv, elements, c, analysis)
     frsi = frsi_map(cv, c)
-    found = view_defects(cv, flux, frsi, elements, c, camera, analysis, hdd_kd, limits, pair)
+    f_design = (condensation.design_factor_map(flux.q_w_m2, cv.object_c, c.outdoor_air_c,
+                                               cv.regions) if cv.side == "interior" else None)
+    checks_ok = all(ch.status != "fail" for ch in (*survey_checks, *cv.checks))
+    found = view_defects(cv, flux, frsi, f_design, elements, c, camera, analysis, hdd_kd,
+                         limits, pair, junction_psi, airtightness, checks_ok)
     vin = view_inputs(cv, c, camera, analysis)
+    # every zone of the view counts for every element: a junction's zone crosses into both
+    all_warm = [d.zone_mask for d in found if _is_warm(d) and d.zone is not None]
+    all_cold = [d.zone_mask for d in found if not _is_warm(d) and d.zone is not None]
     results, kept, draws = [], {}, {}
     for name, reg in cv.regions.items():
-        on_el = [d for d in found if d.element == name]
-        warm = [_defect_zone(d, reg.mask, cv.area_map_m2) for d in on_el if _is_warm(d)]
-        cold = [_defect_zone(d, reg.mask, cv.area_map_m2) for d in on_el if not _is_warm(d)]
-        undisturbed, zone_name = zones.undisturbed_mask(reg.mask, reg.reference_mask, cold, warm)
+        on_el = [d for d in found if name in (d.elements or (d.element,))]
+        warm = [z for z in all_warm if (z & reg.mask).any()]
+        undisturbed, zone_name = zones.undisturbed_mask(reg.mask, reg.reference_mask, all_cold,
+                                                        all_warm)
         kept[name] = undisturbed
         whole = zones.whole_area_mask(reg.mask, warm)
         notes = ()
@@ -125,14 +132,16 @@ def assess_view(cv: CorrectedView, elements: Mapping[str, Element], conditions: 
                                           zone_name, c, analysis, survey_checks, survey_file,
                                           notes)
         if cv.side == "interior":
-            vals = frsi[reg.mask & np.isfinite(frsi)]
-            res = element_risk(res, vals, limits, design,
-                               [d.risk for d in on_el if not _is_warm(d)])
-        bad = sum(d.area_m2 for d in on_el if d.defect_class != "unexplained")
+            ok = reg.mask & np.isfinite(frsi)
+            res = element_risk(res, frsi[ok], limits, design,
+                               [d.risk for d in on_el if not _is_warm(d)], f_design[ok])
+        bad = sum(d.area_m2 for d in on_el if d.element == name
+                  and d.defect_class != "unexplained")
         share = max(0.0, 1.0 - bad / reg.area_m2) if reg.area_m2 > 0 else None
         results.append(replace(res, coverage_share=share))
     u_map = np.where(np.isfinite(flux.q_w_m2), flux.q_w_m2 / dt, np.nan).astype(np.float32)
     return ViewResult(cv.thermogram, "assessed", corrected=cv,
-                      frsi=frsi if cv.side == "interior" else None, u_map_w_m2k=u_map,
+                      frsi=frsi if cv.side == "interior" else None, frsi_design=f_design,
+                      u_map_w_m2k=u_map,
                       elements=tuple(results), defects=tuple(found), checks=cv.checks,
                       undisturbed=kept, u_draws=draws)
