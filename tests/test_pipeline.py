@@ -129,15 +129,15 @@ def test_json_summary_and_rerender(survey_dir, tmp_path):
     assert res.exit_code == 2 and "results.json" in res.output
 
 
-def test_names_reaching_html_are_escaped(tmp_path):
+def test_free_text_reaching_html_is_escaped(tmp_path):
+    # identifiers are letters, digits, - _ . only (refused at load otherwise); free text such
+    # as the site name, an element's label and a measure's name reaches the pages: escaped
     evil = "<script>alert(1)</script>"
-    text = SURVEY_TOML.replace('"test-wall"', json.dumps(evil))
+    text = SURVEY_TOML.replace('name = "Test Cottage"', f"name = {json.dumps(evil)}")
+    text = text.replace('name = "test-wall"\nkind = "wall"',
+                        f'name = "test-wall"\nkind = "wall"\nlabel = {json.dumps(evil)}')
+    text = text.replace('name = "Insulate the wall"', f"name = {json.dumps(evil)}")
     root = write_survey(tmp_path / "s", text)
-    geo = json.loads((root / "outlines" / "room-north.geojson").read_text())
-    for f in geo["features"]:
-        if f["properties"]["element"] == "test-wall":
-            f["properties"]["element"] = evil
-    (root / "outlines" / "room-north.geojson").write_text(json.dumps(geo))
     out = tmp_path / "out"
     res = _assess(root, out)
     assert res.exit_code == 0, res.output
@@ -145,6 +145,7 @@ def test_names_reaching_html_are_escaped(tmp_path):
         html = (out / page).read_text()
         assert evil not in html, page
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in (out / "report.html").read_text()
+    assert "<script" not in res.output  # nor on the terminal as markup
 
 
 def test_correct_writes_surface_temperatures(survey_dir, tmp_path):

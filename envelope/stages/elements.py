@@ -135,7 +135,8 @@ def surface_flux(cv: CorrectedView, elements: Mapping[str, Element], conditions:
             ens = ensemble_of(el, analysis)
             h_c[name] = float(np.mean(convection.ensemble_coefficients(ens, t_zone,
                                                                        c.indoor_air_c)))
-            models[name] = ens.name
+            models[name] = (ens.members[0] if len(ens.members) == 1
+                             else f"ensemble:{ens.name}")
             q = transmittance.heat_flux_interior(obj, c.indoor_air_c, _radiant_c(cv.thermogram),
                                                  eps, h_c[name])
         else:
