@@ -21,6 +21,7 @@ from collections.abc import Callable
 from envelope import validity
 from envelope.defects import rank_defects
 from envelope.errors import SurveyError
+from envelope.junctions import junction_type_from_slug
 from envelope.stages.correct import correct_view
 from envelope.stages.data import Assessment, Failure, ViewResult
 from envelope.stages.elements import design_conditions
@@ -110,8 +111,8 @@ def assess_survey(survey: Survey, *, source: ViewSource | None = None,
     design = design_conditions(survey.climate, c, mould)
     hdd = survey.climate.heating_degree_days_kd
     hdd = math.nan if hdd is None else hdd
-    junction_psi = {j.junction_type: j.psi_specified_w_mk for j in survey.junctions
-                    if j.psi_specified_w_mk is not None} or None
+    junction_psi = {junction_type_from_slug(j.junction_type): j.psi_specified_w_mk
+                    for j in survey.junctions if j.psi_specified_w_mk is not None} or None
     airtightness = leak_airtightness(survey.airtightness)
     if airtightness is None:
         notes.append("no blower-door result ([airtightness]): a leak's energy is only the "

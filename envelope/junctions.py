@@ -28,6 +28,7 @@ __all__ = [
     "DEFAULT_PSI",
     "Junction",
     "junction_label",
+    "junction_type_from_slug",
     "find_junctions",
     "default_psi",
     "junction_verdict",
@@ -83,6 +84,18 @@ class Junction:
     """Length of the shared edge within the junction distance of the region [m]."""
     direction_px: tuple[float, float] = (1.0, 0.0)
     """Unit vector along the shared edge near the region, in pixel coordinates (x, y)."""
+
+
+_SLUG_TYPES = {"jamb": "around opening (jamb)", "sill": "around opening (sill)",
+               "head": "around opening (head)", "window-reveal": "around opening",
+               "around-opening": "around opening", "opening": "around opening"}
+
+
+def junction_type_from_slug(slug: str) -> str:
+    """The junction type of a survey's ``junction_type`` slug: "wall-floor" → "wall–floor",
+    "jamb" → "around opening (jamb)", "corner" → "corner"."""
+    s = str(slug).strip().lower()
+    return _SLUG_TYPES.get(s, s.replace("-", "–"))
 
 
 def junction_label(kind_a: str, kind_b: str) -> str:

@@ -30,7 +30,7 @@ import tifffile
 from scipy import ndimage
 from shapely.geometry import Polygon, box
 
-from envelope import atmosphere, condensation, films, radiometry, synth
+from envelope import atmosphere, condensation, convection, films, radiometry, synth
 
 SEED = 2026
 SHAPE = (480, 640)
@@ -61,12 +61,18 @@ def outdoor_air_c(hours):
 T_AE_C = round(float(outdoor_air_c(SURVEY_HOUR)), 1)
 DT_K = T_AI_C - T_AE_C
 DEW_E_C = float(condensation.dew_point(T_AE_C, RH_E))
+SURVEY_TIME = "01:00"
+"""Local time of the survey (the thermograms' time, and the sky model's hourly term)."""
 T_SKY_C = float(films.sky_temperature(T_AE_C, dew_point_c=DEW_E_C, cloud_oktas=OKTAS,
-                                      model="berdahl_martin"))
+                                      model="berdahl_martin", hour_local=1.0))
 T_GROUND_C = float(films.ground_temperature(T_AE_C))
 F_SKY = films.view_factors(90.0)[0]
 H_CE = float(films.convective_coefficient("iso6946_wind", wind_m_s=WIND_M_S))
-H_CI = films.H_CI_ISO6946
+INTERIOR_MODEL = "alamdari_hammond"
+"""Interior convection of the invented house: the Alamdari–Hammond correlations at each
+surface's own surface–air difference (not ISO 6946's design convention, which the tool must
+not take for physics). The tool's default ensemble holds it as one member among others."""
+HYDRAULIC_DIAMETER_M = 4.0
 MONTHLY_C = [2.4, 2.9, 5.0, 7.6, 11.0, 14.1, 16.2, 15.9, 13.2, 9.7, 5.6, 3.0]
 MONTHLY_RH = [0.88, 0.85, 0.81, 0.76, 0.75, 0.76, 0.77, 0.79, 0.82, 0.86, 0.89, 0.90]
 DAYS = [31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31]
@@ -93,7 +99,9 @@ class Surface:
     u: float = 0.0
     eps: float = 0.93
     side: str = "interior"  # interior | exterior | fixed (object temperature given)
-    h_c: float = H_CI["horizontal"]
+    h_c: float | None = None  # None (interior): from INTERIOR_MODEL at the surface's temperature
+    flow: str = "horizontal"  # heat-flow direction of an interior surface
+    height_m: float = 2.5
     t_fixed_c: float | None = None
     reflected_c: float | None = None  # local reflected temperature (default: the view's)
 
@@ -163,9 +171,28 @@ def _inside(poly, x_m, y_m):
     return hit
 
 
+def interior_h_c(s: Surface, t_ai_c, t_ae_c, reflected_c) -> float:
+    """The surface's convective coefficient [W/(m²·K)]: fixed, or INTERIOR_MODEL at its own
+    clear-field temperature (fixed point; one boundary layer per surface, so a defect on it
+    keeps the surface's coefficient)."""
+    if s.h_c is not None:
+        return s.h_c
+    h = 2.0
+    for _ in range(30):
+        t_s = float(synth.surface_temperature_for_u(s.u, t_ai_c, t_ae_c, reflected_c, s.eps, h))
+        h_new = float(convection.interior_coefficient(
+            INTERIOR_MODEL, t_s, t_ai_c, heat_flow=s.flow, height_m=s.height_m,
+            hydraulic_diameter_m=HYDRAULIC_DIAMETER_M))
+        if abs(h_new - h) < 1e-12:
+            break
+        h = h_new
+    return h
+
+
 def _surface_temperature(s: Surface, u, t_ai_c, t_ae_c, reflected_c):
     if s.side == "interior":
-        return synth.surface_temperature_for_u(u, t_ai_c, t_ae_c, reflected_c, s.eps, s.h_c)
+        h = interior_h_c(s, t_ai_c, t_ae_c, reflected_c)
+        return synth.surface_temperature_for_u(u, t_ai_c, t_ae_c, reflected_c, s.eps, h)
     if s.side == "exterior":
         return synth.exterior_surface_temperature_for_u(u, t_ai_c, t_ae_c, T_SKY_C, T_GROUND_C,
                                                         F_SKY, s.eps, s.h_c)
@@ -237,8 +264,8 @@ def room_background(width_m, height_m, ceiling_u=0.0, floor_u=0.0, floor_eps=TIM
     """Off-plane surfaces round an interior wall: side walls, ceiling and floor (partitions)."""
     return [
         Surface(None, u=0.0, eps=PLASTER),  # side partition walls
-        Surface(rect(-BIG, height_m, BIG, BIG), u=ceiling_u, eps=PLASTER, h_c=H_CI["upward"]),
-        Surface(rect(-BIG, -BIG, BIG, 0.0), u=floor_u, eps=floor_eps, h_c=H_CI["downward"]),
+        Surface(rect(-BIG, height_m, BIG, BIG), u=ceiling_u, eps=PLASTER, flow="upward"),
+        Surface(rect(-BIG, -BIG, BIG, 0.0), u=floor_u, eps=floor_eps, flow="downward"),
     ]
 
 
@@ -246,9 +273,10 @@ def window(x0, y0, x1, y1, side):
     """Window surfaces: frame ring and glazing (outer frame edge given) [m]."""
     outer = rect(x0, y0, x1, y1)
     glass = rect(x0 + FRAME_M, y0 + FRAME_M, x1 - FRAME_M, y1 - FRAME_M)
-    h = H_CE if side == "exterior" else H_CI["horizontal"]
-    return outer, glass, [Surface(outer, U_WINDOW_FRAME, FRAME, side, h),
-                          Surface(glass, U_WINDOW_GLASS, GLASS, side, h)]
+    h = H_CE if side == "exterior" else None
+    height = y1 - y0
+    return outer, glass, [Surface(outer, U_WINDOW_FRAME, FRAME, side, h, height_m=height),
+                          Surface(glass, U_WINDOW_GLASS, GLASS, side, h, height_m=height)]
 
 
 def window_u(outer, glass):
@@ -332,8 +360,8 @@ def build_views():
     studs = [rect(0.6 * k - 0.0225, -1, 0.6 * k + 0.0225, 10).intersection(gable) for k in range(1, 8)]
     v = View("loft-gable-west", "interior", w, h_ridge, 4.0, 5.0, 5.4, 19.7, (1.0, 20.0), 9.0)
     v.surfaces = [
-        Surface(None, u=0.18, eps=PLASTERBOARD, h_c=H_CI["upward"]),  # sloping ceilings
-        Surface(rect(-BIG, -BIG, BIG, 0.0), u=0.0, eps=TIMBER, h_c=H_CI["downward"]),
+        Surface(None, u=0.18, eps=PLASTERBOARD, flow="upward"),  # sloping ceilings
+        Surface(rect(-BIG, -BIG, BIG, 0.0), u=0.0, eps=TIMBER, flow="downward"),
         Surface(gable, 0.32, PLASTERBOARD),
     ] + [Surface(s, 0.90, PLASTERBOARD) for s in studs]
     v.outlines = [("gable-west-wall", "element", gable),
@@ -408,8 +436,8 @@ def build_views():
     gap = Polygon([(1.85, 0.8), (2.45, 0.9), (2.4, 1.75), (1.95, 1.7)])
     v = View("landing-ceiling", "interior", w, h, 3.0, 6.0, 3.4, 19.5, (0.95, 20.0), 9.0)
     v.surfaces = [Surface(None, u=0.0, eps=PLASTER),
-                  Surface(ceiling, 0.25, PLASTERBOARD, h_c=H_CI["upward"]),
-                  Surface(gap, 2.2, PLASTERBOARD, h_c=H_CI["upward"])]
+                  Surface(ceiling, 0.25, PLASTERBOARD, flow="upward"),
+                  Surface(gap, 2.2, PLASTERBOARD, flow="upward")]
     v.outlines = [("landing-ceiling", "element", ceiling),
                   ("landing-ceiling", "reference", rect(0.3, 0.3, 1.4, 1.8))]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
@@ -657,6 +685,26 @@ MEASURES = [
 ]
 
 
+LABELS = {
+    "kitchen-south-wall": "Kitchen wall (south)", "bedroom-east-wall": "Bedroom wall (east)",
+    "gable-west-wall": "Loft-room gable (west)", "lounge-south-wall": "Lounge wall (south)",
+    "lounge-floor": "Lounge floor", "dining-west-wall": "Dining-room wall (west)",
+    "dining-window": "Dining-room window", "landing-ceiling": "Landing ceiling",
+    "front-wall": "Front wall (street side)", "front-window-ground": "Front window, ground floor",
+    "front-window-first": "Front window, first floor",
+    "garden-room-east-wall": "Garden-room wall (east)", "study-south-wall": "Study wall (south)",
+}
+HEAT_CAPACITY = {"study-south-wall": 66.0}
+"""Areal heat capacity [kJ/(m²·K)] of the study wall: a response time of about WALL_LAG_H at
+its U for a homogeneous wall (what the tool assumes without layers)."""
+AIRTIGHTNESS = {"n50_per_h": 7.5, "volume_m3": 310.0, "envelope_area_m2": 345.0, "storeys": 2,
+                "shielding": "normal"}
+"""An invented blower-door result (EN ISO 9972 style): 7.5 air changes an hour at 50 Pa."""
+JUNCTIONS = [{"elements": ["lounge-south-wall", "lounge-floor"], "junction_type": "wall-floor",
+              "psi_specified_w_mk": 0.08}]
+"""The builder's design value for the lounge's wall–floor junction (the truth is 0.15)."""
+
+
 def survey_toml(views, probes, tapes, history):
     out_hist, in_hist = history
     lines = ["# Demo survey of an invented house, written by example_house/generate.py.",
@@ -670,7 +718,8 @@ def survey_toml(views, probes, tapes, history):
         "indoor_air_c": T_AI_C, "outdoor_air_c": T_AE_C, "indoor_rh": RH_I, "outdoor_rh": RH_E,
         "wind_m_s": WIND_M_S, "rain": False, "hours_since_rain": 30.0,
         "sky_cloud_oktas": float(OKTAS), "air_uncertainty_k": 0.3, "wind_uncertainty_m_s": 0.5,
-        "outdoor_history_c": out_hist, "indoor_history_c": in_hist, "history_interval_h": 1.0})
+        "outdoor_history_c": out_hist, "indoor_history_c": in_hist, "history_interval_h": 1.0,
+        "time": SURVEY_TIME})
     _table(lines, "[camera]", {"label": "survey camera 2 (640 x 480)", "band_um": list(BAND_UM),
                                "accuracy_k": 2.0, "relative_accuracy_k": 0.2, "noise_k": NOISE_K})
     _table(lines, "[climate]", {
@@ -680,16 +729,18 @@ def survey_toml(views, probes, tapes, history):
         "frsi_criterion": "iso13788"})
     _table(lines, "[prices]", {"currency": "EUR", "energy_price_per_kwh": 0.12,
                                "heating_efficiency": 0.89, "co2_kg_per_kwh": 0.2})
-    _table(lines, "[analysis]", {"interior_convection": "iso6946",
-                                 "exterior_convection": "iso6946_wind", "sky_model": "berdahl_martin",
+    _table(lines, "[airtightness]", AIRTIGHTNESS)
+    _table(lines, "[analysis]", {"exterior_convection": "iso6946_wind", "sky_model": "berdahl_martin",
                                  "monte_carlo_draws": 20000, "seed": 20260115,
                                  "defect_threshold": 0.03, "defect_min_area_m2": 0.01})
     for name, (kind, material, flow, height, tilt, host) in ELEMENTS.items():
-        _table(lines, "[[elements]]", {"name": name, "kind": kind, "host": host,
+        _table(lines, "[[elements]]", {"name": name, "label": LABELS[name], "kind": kind,
+                                       "host": host,
                                        "u_specified_w_m2k": SPECIFIED.get(name),
                                        "material": material, "heat_flow": flow,
                                        "height_m": height, "tilt_deg": tilt,
-                                       "area_m2": MEASURED_AREA_M2.get(name)})
+                                       "area_m2": MEASURED_AREA_M2.get(name),
+                                       "heat_capacity_kj_m2k": HEAT_CAPACITY.get(name)})
     for v in views:
         air, _ = air_and_rh(v)
         folder = "series/frames" if v.shape == SERIES_SHAPE else "thermograms"
@@ -714,6 +765,8 @@ def survey_toml(views, probes, tapes, history):
             _table(lines, "[[thermograms.tapes]]", t)
     _table(lines, "[[pressure_pairs]]", {"baseline": "dining-west", "depressurised": "dining-west-50pa",
                                          "pressure_difference_pa": 50.0})
+    for j in JUNCTIONS:
+        _table(lines, "[[junctions]]", j)
     _table(lines, "[[series]]", {"id": "study-night", "thermogram": "study-south",
                                  "element": "study-south-wall", "air_log": "series/study-log.csv"})
     for m in MEASURES:
@@ -843,7 +896,9 @@ def main(out_dir=None) -> Path:
         "conditions": {"indoor_air_c": T_AI_C, "outdoor_air_c": T_AE_C, "delta_t_k": _r(DT_K),
                        "sky_c": _r(T_SKY_C, 3), "ground_c": T_GROUND_C, "f_sky": F_SKY,
                        "exterior_reflected_c": T_REFL_E_C, "h_ce_w_m2k": H_CE,
-                       "h_ci_w_m2k": dict(H_CI), "heating_degree_days_base_c": HDD_BASE_C},
+                       "interior_convection": f"{INTERIOR_MODEL} at each surface's own "
+                                              "surface–air difference",
+                       "heating_degree_days_base_c": HDD_BASE_C},
         "elements": elements, "defects": defects_truth(def_truth), "reflection": reflection,
         "thermograms": therm_truth, "series": series,
         "probes": probe_truth, "tapes": tapes,
