@@ -102,6 +102,7 @@ class Surface:
     h_c: float | None = None  # None (interior): from INTERIOR_MODEL at the surface's temperature
     flow: str = "horizontal"  # heat-flow direction of an interior surface
     height_m: float = 2.5
+    host: object = None  # a patch (defect, glazing) shares its host surface's boundary layer
     t_fixed_c: float | None = None
     reflected_c: float | None = None  # local reflected temperature (default: the view's)
 
@@ -177,6 +178,8 @@ def interior_h_c(s: Surface, t_ai_c, t_ae_c, reflected_c) -> float:
     keeps the surface's coefficient)."""
     if s.h_c is not None:
         return s.h_c
+    if s.host is not None:
+        return interior_h_c(s.host, t_ai_c, t_ae_c, reflected_c)
     h = 2.0
     for _ in range(30):
         t_s = float(synth.surface_temperature_for_u(s.u, t_ai_c, t_ae_c, reflected_c, s.eps, h))
@@ -275,8 +278,11 @@ def window(x0, y0, x1, y1, side):
     glass = rect(x0 + FRAME_M, y0 + FRAME_M, x1 - FRAME_M, y1 - FRAME_M)
     h = H_CE if side == "exterior" else None
     height = y1 - y0
-    return outer, glass, [Surface(outer, U_WINDOW_FRAME, FRAME, side, h, height_m=height),
-                          Surface(glass, U_WINDOW_GLASS, GLASS, side, h, height_m=height)]
+    whole = Surface(outer, window_u(outer, glass), GLASS, side, h, height_m=height)
+    return outer, glass, [Surface(outer, U_WINDOW_FRAME, FRAME, side, h, height_m=height,
+                                  host=whole),
+                          Surface(glass, U_WINDOW_GLASS, GLASS, side, h, height_m=height,
+                                  host=whole)]
 
 
 def window_u(outer, glass):
@@ -342,7 +348,8 @@ def build_views():
     w, h = 3.8, 2.5
     wall, batt = rect(0, 0, w, h), rect(2.3, 0.6, 2.9, 1.8)
     v = View("bedroom-east", "interior", w, h, -5.0, -2.0, 4.6, 19.9, (0.95, 20.0), 14.0)
-    v.surfaces = room_background(w, h) + [Surface(wall, 0.28, PLASTER), Surface(batt, 1.6, PLASTER)]
+    v.surfaces = room_background(w, h) + [wall_s := Surface(wall, 0.28, PLASTER),
+                                          Surface(batt, 1.6, PLASTER, host=wall_s)]
     v.outlines = [("bedroom-east-wall", "element", wall),
                   ("bedroom-east-wall", "reference", rect(0.4, 0.7, 1.6, 1.9))]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
@@ -362,8 +369,8 @@ def build_views():
     v.surfaces = [
         Surface(None, u=0.18, eps=PLASTERBOARD, flow="upward"),  # sloping ceilings
         Surface(rect(-BIG, -BIG, BIG, 0.0), u=0.0, eps=TIMBER, flow="downward"),
-        Surface(gable, 0.32, PLASTERBOARD),
-    ] + [Surface(s, 0.90, PLASTERBOARD) for s in studs]
+        gable_s := Surface(gable, 0.32, PLASTERBOARD),
+    ] + [Surface(s, 0.90, PLASTERBOARD, host=gable_s) for s in studs]
     v.outlines = [("gable-west-wall", "element", gable),
                   ("gable-west-wall", "reference", rect(1.29, 0.3, 1.71, 1.0))]
     v.ref_corners = ((0, 0), (w, 0), (w, h_eave), (0, h_eave))
@@ -385,7 +392,7 @@ def build_views():
     u_strip = U_CAVITY + psi / strip_m
     v = View("lounge-south", "interior", w, h, -4.0, 4.0, 4.7, 19.8, (0.95, 20.0), 9.5)
     v.surfaces = room_background(w, h, floor_u=0.45) + [
-        Surface(wall, U_CAVITY, PLASTER), Surface(strip, u_strip, PLASTER)]
+        wall_s := Surface(wall, U_CAVITY, PLASTER), Surface(strip, u_strip, PLASTER, host=wall_s)]
     v.outlines = [("lounge-south-wall", "element", wall),
                   ("lounge-south-wall", "reference", rect(0.5, 0.8, 2.0, 1.9)),
                   ("lounge-floor", "element", floor_poly)]
@@ -436,8 +443,8 @@ def build_views():
     gap = Polygon([(1.85, 0.8), (2.45, 0.9), (2.4, 1.75), (1.95, 1.7)])
     v = View("landing-ceiling", "interior", w, h, 3.0, 6.0, 3.4, 19.5, (0.95, 20.0), 9.0)
     v.surfaces = [Surface(None, u=0.0, eps=PLASTER),
-                  Surface(ceiling, 0.25, PLASTERBOARD, flow="upward"),
-                  Surface(gap, 2.2, PLASTERBOARD, flow="upward")]
+                  ceiling_s := Surface(ceiling, 0.25, PLASTERBOARD, flow="upward"),
+                  Surface(gap, 2.2, PLASTERBOARD, flow="upward", host=ceiling_s)]
     v.outlines = [("landing-ceiling", "element", ceiling),
                   ("landing-ceiling", "reference", rect(0.3, 0.3, 1.4, 1.8))]
     v.ref_corners = ((0, 0), (w, 0), (w, h), (0, h))
@@ -868,7 +875,7 @@ def main(out_dir=None) -> Path:
                        render_reading(v, obj, eps, refl, np.random.default_rng([SEED, k])))
         if v.probe_m is not None:
             xy, (r, c) = _pixel_of(v, *v.probe_m)
-            probes[v.id] = [{"pixel_xy": xy, "surface_c": round(float(obj[r, c]), 1),
+            probes[v.id] = [{"pixel_xy": xy, "surface_c": round(float(obj[r, c]), 2),
                              "uncertainty_k": 0.2}]
             probe_truth[v.id] = {"pixel_xy": xy, "surface_true_c": _r(obj[r, c], 3)}
         if v.id == "kitchen-south":

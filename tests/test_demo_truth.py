@@ -7,7 +7,10 @@ itself reports (consistency, not an outside reference).
 
 from __future__ import annotations
 
+import json
+
 import pytest
+from conftest import HOUSE
 
 pytestmark = pytest.mark.slow  # runs whole surveys (quick loop: pytest -m 'not slow')
 
@@ -114,3 +117,83 @@ def test_series_interval_holds_the_average_method_truth(run):
     _, r, truth = run
     (s,) = r["series"]
     assert s["u_low95_w_m2k"] <= truth["series"]["average_method_u_w_m2k"] <= s["u_high95_w_m2k"]
+
+
+# ---- tight checks where the method is told the forward model's convection ---------------
+# example_house/generate.py makes every interior surface with the Alamdari–Hammond
+# correlations at its own surface–air difference (truth.json, conditions). Told the same model
+# (and ISO 6946's 4 + 4v outside, as generated), the point U must land within 3 % of the
+# planted U, and H within 2 % of the planted heat loss; with the default ensemble, the 95 %
+# intervals must still hold the truth (above). Consistency with the generator, not an outside
+# reference: the outside checks of the physics are in the module tests.
+
+@pytest.fixture(scope="module")
+def matched():
+    import dataclasses
+
+    import envelope
+
+    s = envelope.load_survey(HOUSE)
+    s = dataclasses.replace(s, analysis=dataclasses.replace(
+        s.analysis, interior_convection="alamdari_hammond", monte_carlo_draws=2000))
+    return envelope.assess_survey(s), json.loads((HOUSE / "truth.json").read_text())
+
+
+def test_point_u_within_3_percent_when_the_method_matches_the_generator(matched):
+    a, truth = matched
+    checked = 0
+    for e in a.elements:
+        if not e.u_valid:
+            continue
+        u_true = truth["elements"][e.name]["u_true_w_m2k"]
+        if e.name == truth["series"]["element"]:
+            # the study wall lags the falling outdoor air: at the survey frame it passes the
+            # heat of a steadier night (truth.json series: the frame's steady U)
+            u_true = truth["series"]["survey_frame_steady_u_w_m2k"]
+        surface_air = next(c for c in e.checks if c.name == "surface_air")
+        # 3 % where the surface–air difference is at least 1 K; below it the probe spot's own
+        # noise (0.05 K over 9 px, about 0.02 K) is already 3 % of the difference
+        tol = 0.03 if surface_air.value >= 1.0 else 0.05
+        assert e.u_w_m2k == pytest.approx(u_true, rel=tol), (e.name, e.u_w_m2k, u_true)
+        checked += 1
+    assert checked >= 10
+
+
+def test_h_within_2_percent_of_the_planted_fabric_heat_loss(matched):
+    a, truth = matched
+    dt = truth["conditions"]["delta_t_k"]
+    used = {e.name: e for e in a.elements if e.u_valid}
+    best = {}
+    for e in used.values():
+        best.setdefault(e.name, e)
+    hl = a.energy.balance.heat_loss
+    # the tool's fabric H: ΣU·A + each defect's part (a leak's conductive excess only: its
+    # air is ventilation, not in the planted fabric truth)
+    by_defect = dict(hl.by_defect)
+    fabric = hl.h_elements_w_k + sum(
+        d.extra_w / dt if d.defect_class == "air leakage" else by_defect.get(d.id, 0.0)
+        for d in a.defects if d.defect_class != "unexplained")
+    # the planted fabric: each used element as built (u_whole includes its defects) over the
+    # area the tool used
+    planted = sum(truth["elements"][n]["u_whole_w_m2k"] * e.area_net_m2 for n, e in best.items())
+    assert fabric == pytest.approx(planted, rel=0.02)
+
+
+def test_known_verdicts_of_the_demo(run):
+    _, r, truth = run
+    el = {e["name"]: e for e in r["elements"]}
+    # the dining-room window claimed 1.6 is an older unit of 2.86: fails on any night
+    assert el["dining-window"]["verdict"] == "fail"
+    # three planted defects read above the mould limit on the night but below it at the
+    # design convention (ISO 13788 / BRE IP 1/06: Rsi 0.25 m²K/W on opaque surfaces)
+    risky = {d["element"] for d in r["defects"] if d["risk"] == "mould"}
+    assert {"bedroom-east-wall", "landing-ceiling", "lounge-south-wall"} <= risky
+    for d in r["defects"]:
+        if d["element"] in ("bedroom-east-wall", "landing-ceiling") and d["risk"] == "mould":
+            assert d["frsi_p05"] > d["frsi_design_p05"]
+    # the lounge wall–floor junction measured against its specified 0.08 W/(m·K)
+    (j,) = [d for d in r["defects"] if d["defect_class"] == "linear thermal bridge"]
+    assert j["psi_design_w_mk"] == pytest.approx(0.08) and j["junction_verdict"] == "fail"
+    # the blower-door result gives the leak its air
+    (leak,) = [d for d in r["defects"] if d["defect_class"] == "air leakage"]
+    assert leak["energy_lower_bound"] is False and leak["air_h_w_k"] > 0
