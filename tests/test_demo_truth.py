@@ -94,14 +94,17 @@ def test_junction_psi_within_its_uncertainty(run):
     assert abs(d["psi_w_mk"] - psi_true) <= max(1.96 * u_psi, 0.05 * psi_true), (d, psi_true)
 
 
-def test_series_against_the_average_method_truth(run):
-    _, r, truth = run
-    (s,) = r["series"]
+def test_series_against_the_average_method_truth(matched):
+    a, truth = matched
+    (s,) = a.series
     expected = truth["series"]["average_method_u_w_m2k"]
-    # the series carries the probe-calibrated camera; 10 % is the spread of a ±0.2 K
-    # relative accuracy on a ~1 K surface–air difference (common practice for a check)
-    assert s["u_w_m2k"] == pytest.approx(expected, rel=0.10)
-    assert any(c["name"].startswith("iso9869") and c["status"] == "fail" for c in s["checks"])
+    # told the generator's convection; 3 % as for single views (surface–air about 1.5 K)
+    assert s.u_w_m2k == pytest.approx(expected, rel=0.03)
+    assert any(c.name.startswith("iso9869") and c.status == "fail" for c in s.checks)
+    # the study wall's heat capacity is given: the outdoor air lagged by its response time
+    # brings the average method towards the steady U (0.55), as the storage term should
+    assert s.u_lag_corrected_w_m2k is not None
+    assert abs(s.u_lag_corrected_w_m2k - 0.55) < abs(s.u_w_m2k - 0.55)
 
 
 def test_builder_verdicts_and_retrofit_case(run):
@@ -151,9 +154,10 @@ def test_point_u_within_3_percent_when_the_method_matches_the_generator(matched)
             # heat of a steadier night (truth.json series: the frame's steady U)
             u_true = truth["series"]["survey_frame_steady_u_w_m2k"]
         surface_air = next(c for c in e.checks if c.name == "surface_air")
-        # 3 % where the surface–air difference is at least 1 K; below it the probe spot's own
-        # noise (0.05 K over 9 px, about 0.02 K) is already 3 % of the difference
-        tol = 0.03 if surface_air.value >= 1.0 else 0.05
+        # 3 % where the surface–air difference is at least 2 K; on the better insulated
+        # surfaces (1.6–1.8 K here) the probe spot's own noise (0.05 K over 9 px, 0.017 K, so
+        # about 0.03 K at 2 sigma in the offset) is alone 2 % of U: 5 % there
+        tol = 0.03 if surface_air.value >= 2.0 else 0.05
         assert e.u_w_m2k == pytest.approx(u_true, rel=tol), (e.name, e.u_w_m2k, u_true)
         checked += 1
     assert checked >= 10
@@ -184,13 +188,18 @@ def test_known_verdicts_of_the_demo(run):
     el = {e["name"]: e for e in r["elements"]}
     # the dining-room window claimed 1.6 is an older unit of 2.86: fails on any night
     assert el["dining-window"]["verdict"] == "fail"
-    # three planted defects read above the mould limit on the night but below it at the
-    # design convention (ISO 13788 / BRE IP 1/06: Rsi 0.25 m²K/W on opaque surfaces)
-    risky = {d["element"] for d in r["defects"] if d["risk"] == "mould"}
-    assert {"bedroom-east-wall", "landing-ceiling", "lounge-south-wall"} <= risky
-    for d in r["defects"]:
-        if d["element"] in ("bedroom-east-wall", "landing-ceiling") and d["risk"] == "mould":
-            assert d["frsi_p05"] > d["frsi_design_p05"]
+    # the planted missing batt, loft gap and wall–floor junction are at risk at the design
+    # convention (ISO 13788 / BRE IP 1/06: Rsi 0.25 m²K/W on opaque surfaces), which reads
+    # lower than the factor measured on the open surface; at least two of them would pass on
+    # the measured factor alone (the non-conservative judgement the convention corrects)
+    limit = r["frsi_limit"]["mould"]["value"]
+    planted = [d for d in r["defects"] if d["element"] in
+               ("bedroom-east-wall", "landing-ceiling", "lounge-south-wall")
+               and d["defect_class"] in ("missing insulation", "linear thermal bridge")]
+    assert len(planted) == 3
+    assert all(d["risk"] in ("mould", "condensation") for d in planted)
+    assert all(d["frsi_p05"] > d["frsi_design_p05"] for d in planted)
+    assert sum(d["frsi_p05"] > limit > d["frsi_design_p05"] for d in planted) >= 2
     # the lounge wall–floor junction measured against its specified 0.08 W/(m·K)
     (j,) = [d for d in r["defects"] if d["defect_class"] == "linear thermal bridge"]
     assert j["psi_design_w_mk"] == pytest.approx(0.08) and j["junction_verdict"] == "fail"
