@@ -61,44 +61,10 @@ def staged_folder(out_dir: str | Path, replace: bool = False):
 
 
 def write_figures(assessment, out_dir: Path, progress=None) -> None:
-    """PNG figures of every thermogram into ``out_dir/figures`` (paths of `results.figure_paths`)."""
-    from .plots.common import image_axes, save
-    from .plots.defects import defects_figure
-    from .plots.frsi import frsi_figure
-    from .plots.overlay import overlay_figure
-    from .plots.umap import u_map_figure
-    from .results import figure_paths
+    """PNG figures of every view and series into ``out_dir/figures`` (`plots.plan`)."""
+    from .plots.draw import draw_figures
 
-    limit = assessment.limit_mould
-    for t in assessment.views:
-        tg = t.thermogram
-        paths = figure_paths(tg.id, tg.side, t.status)
-        if not paths:
-            continue
-        title = f"{tg.id} ({tg.side}) — corrected surface temperature"
-        fig, _ = image_axes(t.object_c, title=title)
-        save(fig, out_dir / paths["corrected"])
-        if "overlay" in paths:
-            overlay_figure(t.object_c, t.regions, out_dir / paths["overlay"],
-                           title=f"{tg.id} — elements and reference zones")
-            defects_figure(t.object_c, [d for d in assessment.defects if d.thermogram == tg.id],
-                           out_dir / paths["defects"], regions=t.regions,
-                           title=f"{tg.id} — defects, numbered by rank")
-        if "u_map" in paths:
-            u_map_figure(t.u_map_w_m2k, t.regions, out_dir / paths["u_map"],
-                         title=f"{tg.id} — U per pixel ({tg.side} method)")
-        if "frsi" in paths:
-            frsi_figure(t.frsi, out_dir / paths["frsi"], limit=limit,
-                        title=f"{tg.id} — temperature factor fRsi",
-                        outlines=[r.polygon_net for r in t.regions.values()])
-        if progress:
-            progress("figures")
-    from .plots.series import series_figure
-
-    import dataclasses
-
-    for sr in assessment.series:
-        series_figure(dataclasses.asdict(sr), out_dir / f"figures/series-{sr.id}.png")
+    draw_figures(assessment, out_dir, progress)
 
 
 def write_outputs(assessment, out_dir: Path, progress=None) -> dict:
