@@ -231,11 +231,13 @@ def homeowner_context(results: Mapping, figs: Figures) -> dict:
                     "unit on your energy bill), before your boiler's or heat pump's efficiency.")
         short.append(f"Heat lost through the surveyed surfaces: about "
                      f"{plain_amount(annual)} kWh a year.")
-    targeted = {n for f in fixes for n in f["targets"]}
+    defect_ids = {d.get("id") for d in results.get("defects") or []}
+    targeted = {t for m in results.get("measures") or [] for t in m.get("targets") or []
+                if t not in defect_ids}  # the element itself, not a spot on it
     biggest = None
     if losses:
         top = losses[0]
-        biggest = dict(top)
+        biggest = dict(top, src=None, caption="")
         heat.append(f"Most of it goes through the {facts.label_of(results, top['name'], lower=True)}"
                     f": about {round(100 * top['share'])} of every 100 units lost.")
         if top["name"] not in targeted:

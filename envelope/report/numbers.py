@@ -81,11 +81,17 @@ def pct(share, decimals: int = 0, missing: str = "n/a") -> str:
     return f"{100.0 * share:.{decimals}f} %" if is_num(share) else missing
 
 
+def _reaches(lo, hi, floor, decimals) -> bool:
+    """The low end is at the floor once printed (``round(lo, decimals) <= floor``)."""
+    return round(lo, decimals) <= floor or lo <= floor + 1e-6 * max(abs(hi), 1.0)
+
+
 def interval(lo, hi, decimals: int, floor: float | None = None, unit: str = "") -> str:
-    """``low–high`` with `decimals`; ``≤ high`` when `floor` is given and ``lo <= floor``."""
+    """``low–high`` with `decimals`; ``≤ high`` when `floor` is given and the low end prints
+    at or below it."""
     if not (is_num(lo) and is_num(hi)):
         return "n/a"
-    if floor is not None and lo <= floor + 1e-6 * max(abs(hi), 1.0):
+    if floor is not None and _reaches(lo, hi, floor, decimals):
         return f"≤ {num(hi, decimals, unit)}"
     return f"{num(lo, decimals)}–{num(hi, decimals, unit)}"
 
@@ -136,7 +142,7 @@ def value_text(value, lo=None, hi=None, unit: str = "", floor: float | None = No
         v = f"≈ {num(floor, max(dec, 0))}"
     else:
         v = num(value, dec)
-    reaches = bool(has_iv and floor is not None and lo <= floor + 1e-6 * max(abs(hi), 1.0))
+    reaches = bool(has_iv and floor is not None and _reaches(lo, hi, floor, dec))
     iv = interval(lo, hi, dec, floor) if has_iv else ""
     u = f" {unit}" if unit else ""
     full = f"{v}{u}" if not iv else f"{v}{u} (95 %: {iv}{u})"
