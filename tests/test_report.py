@@ -211,12 +211,13 @@ def test_builder_sheet_says_which_u_is_judged_and_what_to_do(pages, small_run):
     assert verdict_basis(wall)["as_built"] is False
     # the planted patch: named on the sheet with what it costs, and what to do with it
     assert "D1 missing insulation" in page and "kWh/yr" in page
-    assert "make good D1" in page
+    assert "make good D1, check again" in page
     # the remedy comes from the uncertainty budget's largest share, not a generic list
     top = max(wall["budget"], key=lambda b: b["share"])
     from envelope.labels import INPUT_WORDS
 
-    assert f"{INPUT_WORDS[top['input']]} ({round(100 * top['share'])} % of the variance" in page
+    assert f"To settle: (a), {round(100 * top['share'])} % of the variance" in page
+    assert f"(a) To settle an inconclusive verdict, narrow the interval: {INPUT_WORDS[top['input']]}" in page
 
 
 def test_builder_sheet_uses_planned_keys_when_present(small_run, tmp_path):

@@ -10,7 +10,7 @@ from collections.abc import Mapping
 from envelope.labels import element_label
 from envelope.report import facts
 from envelope.report.figures import Figures
-from envelope.report.numbers import is_num, num, plural, u_text, value_text
+from envelope.report.numbers import is_num, num, pct, plural, u_text, value_text
 
 __all__ = ["MAX_PICTURES", "MAX_ROWS_WITH_PICTURES", "builder_context"]
 
@@ -19,6 +19,7 @@ MAX_PICTURES = 3
 MAX_ROWS_WITH_PICTURES = 8
 """With more checked elements than this the sheet carries no pictures, to stay on one page."""
 _ORDER = {"fail": 0, "inconclusive": 1, "pass": 2}
+_LETTERS = "abcdefghijklmnopqrstuvwxyz"
 
 
 def _defect_line(d: Mapping) -> str:
@@ -27,7 +28,7 @@ def _defect_line(d: Mapping) -> str:
                if is_num(kwh) else "energy n/a")
     extra = value_text(d.get("extra_w"), floor=0.0, std=d.get("extra_w_std"), default_decimals=1)
     return (f"{d.get('id')} {d.get('defect_class')}, {num(d.get('area_m2'), 2)} m²: "
-            f"{extra.value} W on the night, {kwh_txt}")
+            f"{extra.value} W, {kwh_txt}")
 
 
 def builder_context(results: Mapping, figs: Figures) -> dict:
@@ -35,6 +36,7 @@ def builder_context(results: Mapping, figs: Figures) -> dict:
     checked = [e for e in facts.elements_of(results) if is_num(e.get("u_specified_w_m2k"))]
     defects = facts.defects_of(results)
     rows = []
+    notes_text: list[str] = []  # remedies shared by several elements, printed once
     for e in sorted(checked, key=lambda e: (_ORDER.get(e.get("verdict"), 3), element_label(e))):
         on_it = [d for d in defects if d.get("element") == e.get("name")
                  and d.get("thermogram") == e.get("thermogram") and not facts.warm_spot(d)]
@@ -54,13 +56,16 @@ def builder_context(results: Mapping, figs: Figures) -> dict:
                     "the insulation product, its thickness and its fitting")
             todo.append(("fix", f"no local defect: the whole element is above its "
                                 f"specification; check {what}"))
-        if verdict == "inconclusive" and rem["narrow"]:
-            todo.append(("settle", "narrow the interval; largest share: " + rem["narrow"]))
+        if verdict == "inconclusive" and rem["action"]:
+            key = f"{rem['who']}: {rem['action']}"
+            if key not in notes_text:
+                notes_text.append(key)
+            share = f", {pct(rem['share'])} of the variance" if rem["share"] is not None else ""
+            todo.append(("settle", f"({_LETTERS[notes_text.index(key) % 26]}){share}"))
         notes = []
         if e.get("u_valid") is False:
             notes.append("U not valid: " + (e.get("u_note") or "see the auditor's report"))
-        if basis["warning"]:
-            notes.append(basis["warning"])
+        above = bool(basis["warning"]) and verdict != "fail"
         view = next((t for t in results.get("thermograms") or []
                      if t.get("id") == e.get("thermogram")), {})
         crop = (view.get("figures") or {}).get(f"element:{e.get('name')}")
@@ -71,7 +76,7 @@ def builder_context(results: Mapping, figs: Figures) -> dict:
             "undisturbed": und, "verdict": verdict, "basis": basis["short"],
             "as_built": basis["as_built"],
             "defects": [_defect_line(d) for d in on_it],
-            "todo": todo, "notes": notes, "crop": crop,
+            "todo": todo, "notes": notes, "crop": crop, "above_spec": above,
         })
     verdicts = [r["verdict"] for r in rows]
     overall = next((w for w in ("fail", "inconclusive", "pass") if w in verdicts), None)
@@ -94,7 +99,13 @@ def builder_context(results: Mapping, figs: Figures) -> dict:
         if failing:
             summary += " — fails: " + ", ".join(failing)
     any_fallback = any(not r["as_built"] for r in rows)
-    return {"rows": rows, "overall": overall, "summary": summary,
+    footnotes = [(_LETTERS[i % 26], f"To settle an inconclusive verdict, narrow the interval: "
+                                    f"{t}.") for i, t in enumerate(notes_text)]
+    bases = {r["basis"] for r in rows}
+    return {"rows": rows, "footnotes": footnotes,
+            "same_basis": bases.pop() if len(bases) == 1 else None,
+            "any_whole_interval": any(r["whole_has_interval"] for r in rows),
+            "any_above": any(r["above_spec"] for r in rows), "overall": overall, "summary": summary,
             "night": facts.night_validity(results), "pictures": pictures,
             "too_many_for_pictures": len(rows) > MAX_ROWS_WITH_PICTURES,
             "any_fallback": any_fallback, "rule": facts.VERDICT_RULE,

@@ -294,26 +294,31 @@ def remedy(e: Mapping, defects: list[Mapping]) -> dict:
     Uses the ``narrowing`` key when the results carry it (``contributor``, ``share``,
     ``remedy``); otherwise the largest share of the element's uncertainty budget, phrased
     for what the view already had (a probe that was used is not asked for again). Defects
-    on the element are named with the repair. Returns ``{"narrow", "fix", "source"}``.
+    on the element are named with the repair. Returns ``{"narrow", "fix", "source", "who",
+    "share", "action"}`` (``narrow`` is who, share and action in one sentence).
     """
-    narrow = ""
+    narrow, who, share, action = "", "", None, ""
     nar = e.get("narrowing")
     if isinstance(nar, Mapping) and nar.get("remedy"):
-        who = INPUT_WORDS.get(str(nar.get("contributor")), nar.get("contributor"))
-        share = f" ({pct(nar.get('share'))} of the variance of U)" if is_num(nar.get("share")) else ""
-        narrow = f"{who}{share}: {nar['remedy']}"
+        who = str(INPUT_WORDS.get(str(nar.get("contributor")), nar.get("contributor") or ""))
+        share = nar.get("share") if is_num(nar.get("share")) else None
+        action = str(nar["remedy"])
         source = "narrowing"
     else:
         inp, share = _top_budget(e)
         source = "budget"
         if inp:
-            narrow = (f"{INPUT_WORDS.get(inp, inp)} ({pct(share)} of the variance of U): "
-                      f"{_REMEDIES.get(inp, 'narrow its uncertainty')}")
+            who = INPUT_WORDS.get(inp, inp)
+            action = _REMEDIES.get(inp, "narrow its uncertainty")
+    if action:
+        narrow = (f"{who} ({pct(share)} of the variance of U): {action}" if share is not None
+                  else f"{who}: {action}")
     fixes = [d for d in defects if not warm_spot(d)]
     fix = ""
     if fixes:
-        fix = "make good " + ", ".join(str(d.get("id")) for d in fixes) + " and check again"
-    return {"narrow": narrow, "fix": fix, "source": source}
+        fix = "make good " + ", ".join(str(d.get("id")) for d in fixes) + ", check again"
+    return {"narrow": narrow, "fix": fix, "source": source, "who": who, "share": share,
+            "action": action}
 
 
 def largest_losses(results: Mapping) -> list[dict]:

@@ -65,11 +65,24 @@ def render_pages(results: Mapping, figs: Figures, charts: Mapping[str, str]) -> 
 
 
 def write_pdf(html: str, base: Path, figs: Figures, path: Path) -> Path:
-    """Render `html` to a PDF with WeasyPrint; only the output folder's PNGs are fetched."""
+    """Render `html` to a PDF with WeasyPrint; only the output folder's PNGs are fetched.
+
+    WeasyPrint's warnings about the screen-only CSS it does not read (media features,
+    scrolling) are silenced for the call: they are expected and would reach the terminal.
+    """
+    import logging
+
     from weasyprint import HTML
 
-    doc = HTML(string=html, base_url=str(Path(base).resolve()) + "/", url_fetcher=figs.fetcher())
-    doc.write_pdf(path, optimize_images=False, uncompressed_pdf=False)
+    log = logging.getLogger("weasyprint")
+    level = log.level
+    log.setLevel(logging.ERROR)
+    try:
+        doc = HTML(string=html, base_url=str(Path(base).resolve()) + "/",
+                   url_fetcher=figs.fetcher())
+        doc.write_pdf(path)
+    finally:
+        log.setLevel(level)
     return Path(path)
 
 
