@@ -115,7 +115,8 @@ def print_summary(results: Mapping, out_dir, console=None) -> None:
     s = summary_lines(results, out_dir)
     width = min(console.width, MAX_WIDTH)
     t = Table(box=box.SIMPLE_HEAD, padding=(0, 1), pad_edge=False,
-              title=Text("Elements: U [W/(m²·K)] with its 95 % interval", style="bold"),
+              title=Text(f"Elements ({len(s['elements'])}): U [W/(m²·K)] with its 95 % interval",
+                         style="bold"),
               title_justify="left")
     for head, w in (("element", 21), ("view", 15), ("U undisturbed", 17), ("as built", 9),
                     ("risk", 12), ("check", 13)):

@@ -58,7 +58,8 @@ def draw_figures(assessment, out_dir: str | Path, progress=None) -> dict[str, di
             continue
         img = v.object_c
         defects = [d for d in assessment.defects if d.thermogram == tg.id]
-        scales = view_scales(img, v.regions, warm_mask(defects, img.shape))
+        warm = warm_mask(defects, img.shape)
+        scales = view_scales(img, v.regions, warm)
         area = getattr(v.corrected, "area_map_m2", None)
         m, uniform = metre_per_px(area, scales.opaque_mask | scales.own_mask)
         geo = {"m_per_px": m, "uniform": uniform}
@@ -68,7 +69,8 @@ def draw_figures(assessment, out_dir: str | Path, progress=None) -> dict[str, di
             masks = [r.mask for r in v.regions.values()]
             frsi_figure(v.frsi, out_dir / paths["frsi"], limit=lim_m, condensation=lim_c,
                         title=f"{tg.id} · temperature factor", masks=masks,
-                        outlines=[r.polygon_net for r in v.regions.values()], **geo)
+                        outlines=[r.polygon_net for r in v.regions.values()], exclude=warm,
+                        **geo)
         if "u_map" in paths:
             u_map_figure(v.u_map_w_m2k, v.regions, out_dir / paths["u_map"],
                          title=f"{tg.id} · U per pixel", **geo)

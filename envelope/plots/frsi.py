@@ -79,7 +79,7 @@ def stripes(mask, colour, period_px: int = 6, width_px: int = 2) -> np.ndarray:
 
 def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None,
                 outlines=None, *, condensation=None, masks=None, width_mm: float = 90.0,
-                m_per_px: float | None = None, uniform: bool = True) -> Path:
+                m_per_px: float | None = None, uniform: bool = True, exclude=None) -> Path:
     """Write a PNG of a temperature-factor map with the pixels below fRsi,min marked.
 
     Parameters
@@ -103,6 +103,9 @@ def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None
         Print width [mm].
     m_per_px, uniform : float, bool
         Pixel size on the element plane [m]; draws a scale bar.
+    exclude : bool ndarray, optional
+        Pixels kept off the colour scale and drawn in grey (warm spots: a factor above 1
+        is a heat source or a reflection, not a surface at risk).
 
     Returns
     -------
@@ -124,9 +127,13 @@ def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None
     el = (np.logical_or.reduce([np.asarray(m, bool) for m in masks]) if masks
           else np.isfinite(f))
     el &= np.isfinite(f)
-    lo, hi = frsi_scale(f, masks, (mould, cond))
+    warm = np.zeros(f.shape, bool) if exclude is None else np.asarray(exclude, bool) & el
+    el &= ~warm
+    scale_masks = [np.asarray(m, bool) & ~warm for m in masks] if masks else [el]
+    lo, hi = frsi_scale(f, scale_masks, (mould, cond))
     rgba = colormaps[FACTOR_CMAP](Normalize(lo, hi, clip=True)(np.where(np.isfinite(f), f, lo)))
     rgba[~el] = (0.93, 0.93, 0.93, 1.0)
+    rgba[warm] = (0.62, 0.62, 0.62, 1.0)
     rgba[~np.isfinite(f)] = (1.0, 1.0, 1.0, 1.0)
     n_el = max(int(el.sum()), 1)
     items, marks = [], []
@@ -144,6 +151,9 @@ def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None
         marks.append((cond, "condensation"))
     if mould is None and cond is None:
         items.append(("no fRsi,min limit given", {"color": "white", "lw": 0.0}))
+    if warm.any():
+        items.append(("warm spot (factor above the wall's, off the scale)",
+                      {"color": "0.62", "lw": 5.0}))
     pad = 2.0
     img_w = width_mm - 2 * pad
     img_h = img_w * h / w

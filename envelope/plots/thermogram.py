@@ -288,8 +288,10 @@ def thermogram_figure(image_c, regions, defects, path: str | Path, *, title: str
                            path_effects=HALO)
             for ring in polygon_rings(getattr(reg, "reference_polygon", None)):
                 frame.line(ring, color=REFERENCE_COLOUR, lw=0.9, ls="--")
+            spots = [d.polygon for d in defects if d.element == name and d.polygon is not None]
+            free = reg.polygon_net.difference(shapely.union_all(spots)) if spots else reg.polygon_net
             if not reg.polygon_net.is_empty:
-                pt = label_point(reg.polygon_net)
+                pt = label_point(free if not free.is_empty else reg.polygon_net)
                 frame.text(pt.x, pt.y, (labels or {}).get(name) or element_label(name),
                            color="white", ha="center", va="center", bbox=LABEL_BOX)
         for d in sorted(defects, key=lambda x: x.rank):

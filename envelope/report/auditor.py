@@ -50,7 +50,7 @@ def _elements(results, defects_by_el) -> list[dict]:
         spec = e.get("u_specified_w_m2k")
         basis = facts.verdict_basis(e) if is_num(spec) else None
         caveats = facts.element_caveats(e)
-        if basis and basis["warning"]:
+        if basis and basis["warning"] and e.get("verdict") != "fail":
             caveats.append(basis["warning"])
         rows.append({
             "label": element_label(e), "name": e.get("name"), "kind": e.get("kind") or "",
