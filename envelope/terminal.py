@@ -10,8 +10,8 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
+import envelope.report.facts as facts
 from envelope.labels import element_label, strip_control
-from envelope.report import facts
 from envelope.report.numbers import is_num, num, u_text, value_text
 
 __all__ = ["MAX_WIDTH", "summary_lines", "print_summary"]

@@ -8,8 +8,8 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
+import envelope.report.facts as facts
 from envelope.labels import INPUT_SHORT, INPUT_WORDS, element_label
-from envelope.report import facts
 from envelope.report.facts import get
 from envelope.report.figures import Figures
 from envelope.report.methods import METHODS, REFERENCES, cite

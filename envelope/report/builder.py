@@ -7,8 +7,8 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
+import envelope.report.facts as facts
 from envelope.labels import element_label
-from envelope.report import facts
 from envelope.report.figures import Figures
 from envelope.report.numbers import is_num, num, pct, plural, u_text, value_text
 

@@ -10,8 +10,8 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
+import envelope.report.facts as facts
 from envelope.labels import class_words, element_label
-from envelope.report import facts
 from envelope.report.figures import Figures
 from envelope.report.numbers import (
     is_num,
