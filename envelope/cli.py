@@ -35,12 +35,30 @@ app = typer.Typer(
     no_args_is_help=True,
     add_completion=False,
     pretty_exceptions_enable=False,
+    rich_markup_mode=None,  # plain help: units in [brackets] print as written
 )
 
-SurveyArg = Annotated[Path, typer.Argument(help="Survey folder (holding survey.toml) or the .toml file itself.")]
-OutOpt = Annotated[Path, typer.Option("--out", "-o", help="New output folder, apart from the survey folder; must not exist or be empty.")]
-QuietOpt = Annotated[bool, typer.Option("--quiet", "-q", help="No progress or summary on the terminal.")]
-ReplaceOpt = Annotated[bool, typer.Option("--replace", help="Replace an earlier output folder of envelope (one holding only files envelope wrote, see its manifest.json), once the new one is complete.")]
+SurveyArg = Annotated[Path, typer.Argument(help="Survey folder (holding survey.toml) or the .toml file itself.", show_default=False)]
+OutOpt = Annotated[Path, typer.Option("--out", "-o", help="New output folder, apart from the survey folder; must not exist or be empty.", show_default=False)]
+QuietOpt = Annotated[bool, typer.Option("--quiet", "-q", help="No progress or summary on the terminal. Default: off.", show_default=False)]
+ReplaceOpt = Annotated[bool, typer.Option("--replace", help="Replace an earlier output folder of envelope (one holding only files envelope wrote, see its manifest.json), once the new one is complete. Default: off.", show_default=False)]
+
+
+def _version(value: bool) -> None:
+    if value:
+        from . import __version__
+
+        typer.echo(f"envelope {__version__}")
+        raise typer.Exit(0)
+
+
+@app.callback()
+def _main(
+    version: Annotated[bool, typer.Option("--version", callback=_version, is_eager=True, help="Print the version and exit.", show_default=False)] = False,
+):
+    """From a thermal-camera survey of a house to corrected surface temperatures, in-situ
+    U-values with uncertainty, condensation and mould risk, ranked defects, a retrofit case
+    and reports. Temperatures in °C, U in W/(m²·K)."""
 
 
 def _fail(exc: Exception) -> None:
@@ -202,8 +220,8 @@ class _Progress:
 @app.command()
 def inspect(
     survey: SurveyArg,
-    materials: Annotated[bool, typer.Option("--materials", help="Also list the emissivity table with sources.")] = False,
-    json_out: Annotated[bool, typer.Option("--json", help="Print what was found as JSON.")] = False,
+    materials: Annotated[bool, typer.Option("--materials", help="Also list the emissivity table [-] with sources. Default: off.", show_default=False)] = False,
+    json_out: Annotated[bool, typer.Option("--json", help="Print what was found as JSON. Default: off.", show_default=False)] = False,
 ):
     """Check a survey as `assess` would (TOML, pixel files, outlines, scales) and list what it
     holds and what is still needed before `assess`. Exit 0: loads (the list may still hold
@@ -339,7 +357,7 @@ def init(
 @app.command()
 def correct(
     survey: SurveyArg, out: OutOpt, replace: ReplaceOpt = False, quiet: QuietOpt = False,
-    metric_cm: Annotated[float | None, typer.Option("--metric-cm", min=0.1, max=100.0, help="Also write each image resampled onto the element plane at this grid step [cm per pixel].")] = None,
+    metric_cm: Annotated[float | None, typer.Option("--metric-cm", min=0.1, max=100.0, help="Also write each image resampled onto the element plane at this grid step [cm per pixel], 0.1 to 100. Default: not written.", show_default=False)] = None,
 ):
     """Write the corrected surface-temperature image [°C, float32 TIFF] of every thermogram
     (and, with --metric-cm, the same resampled onto a metric grid on the element plane)."""
@@ -393,9 +411,9 @@ def assess(
     out: OutOpt,
     replace: ReplaceOpt = False,
     quiet: QuietOpt = False,
-    json_out: Annotated[bool, typer.Option("--json", help="Print a summary as JSON on stdout (for scripts).")] = False,
-    draws: Annotated[int | None, typer.Option("--draws", help=f"Monte Carlo draws per element, {DRAWS_RANGE[0]}…{DRAWS_RANGE[1]} (overrides analysis.monte_carlo_draws of the survey).")] = None,
-    convection: Annotated[Convection | None, typer.Option("--convection", help="Interior convection [W/(m²·K)]: the ensemble of correlations that fit each surface (default), or one model fixed (overrides analysis.interior_convection of the survey).")] = None,
+    json_out: Annotated[bool, typer.Option("--json", help="Print a summary as JSON on stdout (for scripts) instead of the table. Default: off.", show_default=False)] = False,
+    draws: Annotated[int | None, typer.Option("--draws", help=f"Monte Carlo draws per element [-], {DRAWS_RANGE[0]}…{DRAWS_RANGE[1]}. Default: analysis.monte_carlo_draws of the survey (20000 when the survey does not set it).", show_default=False)] = None,
+    convection: Annotated[Convection | None, typer.Option("--convection", help="Interior convective coefficient h_c [W/(m²·K)]: ensemble (the correlations that fit each surface, drawn in the Monte Carlo) or one model fixed. Default: analysis.interior_convection of the survey (ensemble when unset).", show_default=False)] = None,
 ):
     """Assess a survey: corrected temperatures, U-values with 95 % intervals, fRsi and mould/condensation risk, ranked defects, heat loss, retrofit case and the reports."""
     import dataclasses
@@ -429,7 +447,9 @@ def assess(
     if json_out:
         typer.echo(terminal_json(summary))
     elif not quiet:
-        _print_summary(summary)
+        from .terminal import print_summary
+
+        print_summary(results, out)
     if results["failures"]:
         raise typer.Exit(EXIT_PARTIAL)
 
@@ -448,39 +468,17 @@ def _summary(results: dict, out: Path) -> dict:
     }
 
 
-def _print_summary(s: dict) -> None:
-    typer.echo(f"Elements ({len(s['elements'])}):")
-    for e in s["elements"]:
-        u = e["u_w_m2k"]
-        iv = f"[{e['u_low95_w_m2k']:.2f}, {e['u_high95_w_m2k']:.2f}]" if e["u_low95_w_m2k"] is not None else ""
-        extra = "".join(f"  {k}: {_t(e[k])}" for k in ("risk", "verdict") if e.get(k))
-        if e.get("u_valid") is False:
-            extra += "  NOT VALID (see report)"
-        typer.echo(f"  {_t(e['name']):<26} {_t(e['thermogram']):<22} U {u:.2f} W/(m²·K) 95 % {iv}{extra}")
-    typer.echo(f"Defects ({len(s['defects'])}), ranked:")
-    for d in s["defects"][:10]:
-        kwh = f"{d['annual_kwh']:.0f} kWh/yr" if d.get("annual_kwh") is not None else ""
-        typer.echo(f"  {d['rank']:>2}. {_t(d['id']):<4} {_t(d.get('defect_class')):<26} "
-                   f"{_t(d['element']):<24} {kwh}  risk: {_t(d['risk'])}")
-    if s["h_w_k"] is not None:
-        annual = f", about {s['annual_kwh']:.0f} kWh/yr" if s["annual_kwh"] is not None else ""
-        typer.echo(f"Fabric heat-loss coefficient H = {s['h_w_k']:.1f} W/K{annual}")
-    for f in s["failures"]:
-        typer.echo(f"FAILED {_t(f['thermogram'])}: {terminal_text(f['error'], MAX_MESSAGE_CHARS)}",
-                   err=True)
-    typer.echo(f"Outputs in {_t(s['out'], 300)} (report.html, check.html, summary.html, summary.pdf)")
-
-
 @app.command()
 def rerender(
-    out_dir: Annotated[Path, typer.Argument(help="An output folder written by `envelope assess`.")],
+    out_dir: Annotated[Path, typer.Argument(help="An output folder written by `envelope assess`.", show_default=False)],
     quiet: QuietOpt = False,
+    single_file: Annotated[bool, typer.Option("--single-file", help="Embed the figures in the pages, so that report.html, check.html and summary.html each stand alone. Default: off (figures linked from figures/).", show_default=False)] = False,
 ):
     """Rewrite the reports of an existing output folder from its results.json (no recomputing)."""
     from .outputs import rerender_reports
 
     with guarded("the reports were left as they were") as interrupts:
-        rerender_reports(out_dir, hold=interrupts.hold)
+        rerender_reports(out_dir, hold=interrupts.hold, embed=single_file)
     if not quiet:
         typer.echo(f"reports rewritten in {_t(out_dir, 300)}")
 
@@ -488,8 +486,8 @@ def rerender(
 @app.command()
 def outline(
     survey: SurveyArg,
-    thermogram: Annotated[str, typer.Argument(help="Id of the thermogram to draw on.")],
-    outlines: Annotated[Path | None, typer.Option("--file", help="GeoJSON to write (default: the thermogram's outlines file).")] = None,
+    thermogram: Annotated[str, typer.Argument(help="Id of the thermogram to draw on.", show_default=False)],
+    outlines: Annotated[Path | None, typer.Option("--file", help="GeoJSON to write. Default: the thermogram's outlines file.", show_default=False)] = None,
 ):
     """Draw element outlines and reference zones on a thermogram and pick its scale (opens a
     window; works on a survey that still has keys to fill in)."""

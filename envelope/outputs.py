@@ -85,44 +85,10 @@ def write_tables(results: dict, out_dir: Path) -> None:
 
 
 def write_figures(assessment, out_dir: Path, progress=None) -> None:
-    """PNG figures of every thermogram into ``out_dir/figures`` (paths of `results.figure_paths`)."""
-    from .plots.common import image_axes, save
-    from .plots.defects import defects_figure
-    from .plots.frsi import frsi_figure
-    from .plots.overlay import overlay_figure
-    from .plots.umap import u_map_figure
-    from .results import figure_paths
+    """PNG figures of every view and series into ``out_dir/figures`` (`plots.plan`)."""
+    from .plots.draw import draw_figures
 
-    limit = assessment.limit_mould
-    for t in assessment.views:
-        tg = t.thermogram
-        paths = {k: inside(out_dir, v) for k, v in figure_paths(tg.id, tg.side, t.status).items()}
-        if not paths:
-            continue
-        title = f"{tg.id} ({tg.side}) — corrected surface temperature"
-        fig, _ = image_axes(t.object_c, title=title)
-        save(fig, paths["corrected"])
-        if "overlay" in paths:
-            overlay_figure(t.object_c, t.regions, paths["overlay"],
-                           title=f"{tg.id} — elements and reference zones")
-            defects_figure(t.object_c, [d for d in assessment.defects if d.thermogram == tg.id],
-                           paths["defects"], regions=t.regions,
-                           title=f"{tg.id} — defects, numbered by rank")
-        if "u_map" in paths:
-            u_map_figure(t.u_map_w_m2k, t.regions, paths["u_map"],
-                         title=f"{tg.id} — U per pixel ({tg.side} method)")
-        if "frsi" in paths:
-            frsi_figure(t.frsi, paths["frsi"], limit=limit,
-                        title=f"{tg.id} — temperature factor fRsi",
-                        outlines=[r.polygon_net for r in t.regions.values()])
-        if progress:
-            progress("figures")
-    import dataclasses
-
-    from .plots.series import series_figure
-
-    for sr in assessment.series:
-        series_figure(dataclasses.asdict(sr), inside(out_dir, f"figures/series-{sr.id}.png"))
+    draw_figures(assessment, out_dir, progress)
 
 
 def write_outputs(assessment, out_dir: Path, progress=None) -> dict:
@@ -142,12 +108,13 @@ def write_outputs(assessment, out_dir: Path, progress=None) -> dict:
     return results
 
 
-def rerender_reports(out_dir: str | Path, hold=None) -> dict:
+def rerender_reports(out_dir: str | Path, hold=None, embed: bool = False) -> dict:
     """Rewrite the reports of an output folder from its ``results.json`` (no recomputing).
 
     The results are checked (`envelope.results_file.read_results`); the figures they name are
     embedded only from inside ``out_dir/figures``; the new reports replace the old ones file
-    by file, and only files this tool wrote (`envelope.folders.refreshed_folder`).
+    by file, and only files this tool wrote (`envelope.folders.refreshed_folder`). With
+    `embed` the figures are embedded in the pages (each page stands alone).
 
     Returns
     -------
@@ -167,7 +134,7 @@ def rerender_reports(out_dir: str | Path, hold=None) -> dict:
             with open(out_dir.joinpath(*rel.parts), "rb", opener=_no_follow) as src, \
                     open(dst, "wb") as f:
                 shutil.copyfileobj(src, f)
-        write_reports(results, tmp, tmp / "figures")
+        write_reports(results, tmp, tmp / "figures", embed=embed)
     return results
 
 

@@ -40,7 +40,7 @@ MEASURE_COLUMNS = (
     "annual_kwh_saved_high95", "annual_money_saved", "annual_co2_saved_kg", "payback_years",
 )
 
-__all__ = ["SCHEMA", "SCHEMA_VERSION", "clean", "figure_paths", "to_results", "dumps",
+__all__ = ["SCHEMA", "SCHEMA_VERSION", "clean", "to_results", "dumps",
            "elements_table", "defects_table", "measures_table", "schema",
            "validate"]
 
@@ -85,20 +85,6 @@ def _budget(pairs) -> list[dict]:
     return [{"input": k, "share": float(v)} for k, v in pairs]
 
 
-def figure_paths(tid: str, side: str, status: str) -> dict:
-    """Figure files of one thermogram, relative to the output folder."""
-    if status == "failed":
-        return {}
-    paths = {"corrected": f"figures/{tid}-corrected.png"}
-    if status == "assessed":
-        paths["overlay"] = f"figures/{tid}-outlines.png"
-        paths["defects"] = f"figures/{tid}-defects.png"
-        paths["u_map"] = f"figures/{tid}-u.png"
-        if side == "interior":
-            paths["frsi"] = f"figures/{tid}-frsi.png"
-    return paths
-
-
 def _element(e, a) -> dict:
     d = dataclasses.asdict(e)
     d["checks"] = [_check(ch) for ch in e.checks]
@@ -109,7 +95,7 @@ def _element(e, a) -> dict:
     return d
 
 
-def _view(v, root) -> dict:
+def _view(v, root, figures: dict) -> dict:
     tg, cv = v.thermogram, v.corrected
     try:
         file = tg.file.resolve().relative_to(Path(root).resolve()).as_posix()
@@ -127,7 +113,7 @@ def _view(v, root) -> dict:
         "scale": None if cv is None else {
             "method": cv.homography.method, "rms_error_m": cv.homography.rms_error_m,
             "fronto_parallel_assumed": cv.homography.fronto_parallel_assumed},
-        "figures": figure_paths(tg.id, tg.side, v.status),
+        "figures": figures,
         "checks": [_check(ch) for ch in v.checks],
     }
 
@@ -157,10 +143,12 @@ def _heat_loss(energy) -> dict | None:
 def to_results(a) -> dict:
     """The results dict (schema version 2) of an `assess.Assessment`."""
     from envelope.defects import defect_to_dict
+    from envelope.plots.plan import plan_figures
 
     s = a.survey
     c = s.conditions
     en = a.energy
+    plan = plan_figures(a)
     out = {
         "schema": SCHEMA, "schema_version": SCHEMA_VERSION, "tool_version": __version__,
         "survey": {
@@ -175,10 +163,12 @@ def to_results(a) -> dict:
                        "relative_accuracy_k": s.camera.relative_accuracy_k,
                        "noise_k": s.camera.noise_k},
             "analysis": dataclasses.asdict(s.analysis),
+            "prices": dataclasses.asdict(s.prices),
+            "climate": dataclasses.asdict(s.climate),
         },
         "checks": [_check(ch) for ch in a.checks],
         "frsi_limit": {"mould": _limit(a.limit_mould), "condensation": _limit(a.limit_condensation)},
-        "thermograms": [_view(v, s.root) for v in a.views],
+        "thermograms": [_view(v, s.root, plan.get(v.thermogram.id, {})) for v in a.views],
         "elements": [_element(e, a) for e in a.elements],
         "defects": [defect_to_dict(d) for d in a.defects],
         "heat_loss": _heat_loss(en),

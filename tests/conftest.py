@@ -170,3 +170,101 @@ def demo_run(tmp_path_factory):
     assert validate(results) == []
     truth = json.loads((HOUSE / "truth.json").read_text(encoding="utf-8"))
     return out, results, truth
+
+
+# -- session runs for the report, figure and browser tests --------------------------------------
+# Real pipeline runs (not hand-written results): the small survey above with a planted patch of
+# missing insulation and two measures, and a survey of 20 checked walls for the one-page sheet.
+
+PATCH = (slice(70, 105), slice(20, 60))  # rows, cols of the planted patch (outside the zone)
+U_PATCH = 1.6
+
+
+def patched_readings(seed: int = 1) -> np.ndarray:
+    """Readings of the test wall with a patch of missing insulation (U 1.6) and the window."""
+    from envelope import radiometry, synth
+
+    u = np.full(SHAPE, U_WALL)
+    eps = np.full(SHAPE, 0.93)
+    u[30:80, 100:140] = U_WINDOW
+    eps[30:80, 100:140] = 0.84
+    u[PATCH] = U_PATCH
+    t_s = synth.surface_temperature_for_u(u, T_I, T_E, 20.0, eps, H_C)
+    app = synth.render_apparent(t_s, eps, 20.0, noise_k=0.05, offset_k=0.3,
+                                rng=np.random.default_rng(seed))
+    return np.asarray(radiometry.export_reading(app, 0.95, 20.0, 1.0, None), dtype=np.float32)
+
+
+REPAIR_MEASURE = """
+[[measures]]
+name = "Refit the insulation behind the lining"
+kind = "repair_defect"
+elements = ["test-wall"]
+cost = 300
+"""
+
+
+@pytest.fixture(scope="session")
+def small_run(tmp_path_factory):
+    """The small survey with a planted defect, assessed and written out (figures, reports).
+
+    Returns ``(assessment, results, out_dir)``; the results pass the JSON Schema.
+    """
+    import dataclasses
+
+    from envelope.assess import assess_survey
+    from envelope.outputs import write_outputs
+    from envelope.results import validate
+    from envelope.survey import load_survey
+
+    root = write_survey(tmp_path_factory.mktemp("small") / "survey",
+                        SURVEY_TOML + REPAIR_MEASURE, pixels=patched_readings())
+    survey = load_survey(root)
+    survey = dataclasses.replace(survey, analysis=dataclasses.replace(
+        survey.analysis, monte_carlo_draws=1000))
+    assessment = assess_survey(survey)
+    out = tmp_path_factory.mktemp("small-out")
+    results = write_outputs(assessment, out)
+    assert validate(results) == []
+    return assessment, results, out
+
+
+@pytest.fixture(scope="session")
+def survey20_results(tmp_path_factory):
+    """Results of a real run of 20 views, each with its own wall carrying a specified U
+    (a housing-programme survey for the one-page builder sheet); no figures drawn."""
+    import dataclasses
+
+    from envelope.assess import assess_survey
+    from envelope.results import to_results, validate
+    from envelope.survey import load_survey
+
+    root = tmp_path_factory.mktemp("s20") / "survey"
+    head = SURVEY_TOML[: SURVEY_TOML.index("[[elements]]")]
+    blocks, views = [], []
+    tg_block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
+    for i in range(20):
+        name = f"flat-{i + 1:02d}-living-room-wall"
+        spec = (0.05, 2.0, 0.45)[i % 3]  # fail, pass, inconclusive for a U near 0.4
+        blocks.append(f'[[elements]]\nname = "{name}"\nkind = "wall"\n'
+                      f"u_specified_w_m2k = {spec}\nemissivity = 0.93\n\n")
+        views.append(tg_block.replace('id = "room-north"', f'id = "flat-{i + 1:02d}"')
+                     .replace("thermograms/room-north.npy", f"thermograms/flat-{i + 1:02d}.npy")
+                     .replace("outlines/room-north.geojson", f"outlines/flat-{i + 1:02d}.geojson"))
+    write_survey(root, head + "".join(blocks) + "".join(views))
+    for i in range(20):
+        pixels = patched_readings(seed=i) if i % 4 == 0 else readings(seed=i)
+        np.save(root / "thermograms" / f"flat-{i + 1:02d}.npy", pixels)
+        geo = {"type": "FeatureCollection", "features": [
+            {"type": "Feature", "properties": {"element": f"flat-{i + 1:02d}-living-room-wall",
+                                               "role": role},
+             "geometry": {"type": "Polygon", "coordinates": rect}}
+            for role, rect in (("element", _rect(0, 0, 160, 120)),
+                               ("reference", _rect(10, 10, 60, 60)))]}
+        (root / "outlines" / f"flat-{i + 1:02d}.geojson").write_text(json.dumps(geo))
+    survey = load_survey(root)
+    survey = dataclasses.replace(survey, measures=(), analysis=dataclasses.replace(
+        survey.analysis, monte_carlo_draws=500))
+    results = to_results(assess_survey(survey))
+    assert validate(results) == []
+    return results

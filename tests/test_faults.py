@@ -293,9 +293,11 @@ def test_dollar_in_a_name_prints_as_is(hostile):
 
 
 def test_figure_text_is_never_mathtext(tmp_path):
-    from envelope.plots.common import image_axes, save
+    from envelope.plots.common import new_figure, save
 
-    fig, ax = image_axes([[1.0, 2.0], [3.0, 4.0]], title="wall $\\frac{1}{$ north")
+    fig = new_figure(60.0, 40.0)
+    ax = fig.add_subplot()
+    ax.set_title("wall $\\frac{1}{$ north")
     label = ax.text(0, 0, "$\\undefined$")
     save(fig, tmp_path / "f.png")  # would raise ValueError on a mathtext parse
     assert ax.title.get_parse_math() is False and label.get_parse_math() is False

@@ -1,218 +1,308 @@
-"""Tests of the reports: self-contained, escaped, complete, PDF of 2-4 pages.
+"""Reports: what each page says first, plain words for the homeowner, totals that add up,
+one number convention, every caveat where its number is, escaping, CSP, linked or embedded
+figures from the output folder only, and the PDF.
 
-The fixture is `tests/data/results_small.json`: an invented survey in the results-schema
-shape (version 1); figures are small PNGs drawn here.
+Fixtures are real pipeline runs (`small_run`, `survey20_results` in conftest) validated
+against the results schema; keys that later pipeline versions add are planted in copies of
+those results (and the copies still pass the schema).
 """
 
 from __future__ import annotations
 
-import base64
 import copy
-import json
+import html
 import re
 from pathlib import Path
 
-import matplotlib.pyplot as plt
-import numpy as np
 import pypdf
 import pytest
 
-from envelope.report import (
-    CAUTIONS,
-    about_range,
-    esc,
-    measures_table,
-    top_fixes,
-    write_reports,
+from envelope.report import write_reports
+from envelope.report.facts import verdict_basis, view_state
+from envelope.report.homeowner import CAUTIONS, homeowner_context
+from envelope.report.numbers import (
+    decimals_for,
+    plain_money,
+    plain_range,
+    u_text,
+    value_text,
 )
+from envelope.results import validate
 
-DATA = Path(__file__).parent / "data" / "results_small.json"
 EVIL = "<script>alert(1)</script>"
+ID = re.compile(r"\bD\d+\b")
 
 
-def load_results() -> dict:
-    return json.loads(DATA.read_text(encoding="utf-8"))
+def visible_text(page: str) -> str:
+    """The words a reader sees: tags, the style block and attribute values removed."""
+    page = re.sub(r"<style.*?</style>", " ", page, flags=re.S)
+    page = re.sub(r"<[^>]+>", " ", page)
+    return " ".join(html.unescape(page).split())
 
 
-def make_figures(results: dict, figures_dir: Path) -> None:
-    rng = np.random.default_rng(1)
-    figures_dir.mkdir(parents=True, exist_ok=True)
-    for t in results["thermograms"]:
-        for rel in (t.get("figures") or {}).values():
-            plt.imsave(figures_dir / Path(rel).name, rng.random((24, 32)), cmap="inferno")
+def write(results, tmp_path: Path, small_out: Path, embed=False) -> dict:
+    """Reports of `results` in a fresh folder holding the small run's figures."""
+    import shutil
+
+    out = tmp_path / "out"
+    shutil.copytree(small_out / "figures", out / "figures")
+    return write_reports(results, out, embed=embed)
 
 
 @pytest.fixture(scope="module")
-def written(tmp_path_factory):
-    out = tmp_path_factory.mktemp("out")
-    results = load_results()
-    make_figures(results, out / "figures")
-    paths = write_reports(results, out, out / "figures")
-    return results, out, paths
+def pages(small_run):
+    _, results, out = small_run
+    return {k: (out / f).read_text(encoding="utf-8") for k, f in
+            (("report", "report.html"), ("check", "check.html"), ("summary", "summary.html"))}
 
 
-def text_of(path: Path) -> str:
-    return path.read_text(encoding="utf-8")
+# -- numbers -----------------------------------------------------------------------------------
+def test_numbers_one_convention():
+    # rounding rule of the Particle Data Group (Review of Particle Physics, Introduction 5.3):
+    # half-widths with leading digits 100-354 keep two significant digits, 355-999 one
+    assert decimals_for(0.33) == 2 and decimals_for(0.45) == 1 and decimals_for(29.2) == 0
+    # U never below zero: an interval reaching zero prints "≤ high", a value at zero "≈ 0"
+    assert u_text(0.297, -0.035, 0.628).full == "0.30 (95 %: ≤ 0.63)"
+    assert u_text(-0.02, -0.5, 0.3).value == "≈ 0.0"
+    assert u_text(2.85, 2.41, 3.31).full == "2.9 (95 %: 2.4–3.3)"
+    # from a standard uncertainty: value ± 1.96 std (JCGM 100:2008, normal distribution)
+    h = value_text(111.3, std=14.88, unit="W/K", floor=0.0)
+    assert h.full == "111 W/K (95 %: 82–140 W/K)" and h.from_std
 
 
-def test_all_four_files_and_charts(written):
-    _, out, paths = written
-    for key in ("report", "check", "summary_html", "summary_pdf"):
-        assert paths[key].is_file() and paths[key].stat().st_size > 1000
-    assert (out / "figures" / "savings.png").is_file()
-    assert (out / "figures" / "heat-loss.png").is_file()
+def test_plain_ranges_never_say_zero_to():
+    assert plain_range(186.0, 383.0, 808.0, "kWh") == "about 190 to 810 kWh"
+    assert plain_range(1.8e-9, 189.0, 587.0, "kWh") == \
+        "up to about 590 kWh (most likely about 190 kWh)"
+    assert plain_money(2.2e-10, 22.7, 70.4, "€") == "up to about €70 (most likely about €23)"
+    assert plain_money(0.1, 0.15, 0.2, "€") == "less than €1"
+    for text in (plain_range(0.0, 1.0, 190.0), plain_money(0.0, 20.0, 190.0, "€")):
+        assert "0 to" not in text
 
 
-def test_self_contained_images_are_data_uris(written):
-    results, out, paths = written
+# -- auditor's report --------------------------------------------------------------------------
+def test_auditor_report_puts_key_results_first_then_contents(pages):
+    page = pages["report"]
+    order = [page.index(s) for s in ('id="key"', 'class="toc"', 'id="elements"', 'id="defects"',
+                                     'id="energy"', 'id="inputs"', 'id="methods"',
+                                     'id="views"')]
+    assert order == sorted(order)
+    key = visible_text(page[page.index('id="key"'): page.index('class="toc"')])
+    for words in ("H = ", "95 %", "Annual fabric loss", "Validity of the night",
+                  "Worst risks", "Top measures", "Builder check"):
+        assert words in key, words
+    # per-view pictures last and collapsible
+    assert page.index("<details>") > page.index('id="methods"')
+    assert page.count("<img") == page[page.index('id="elements"'):].count("<img")
+
+
+def test_auditor_inputs_and_numbered_citations(pages, small_run):
+    page = visible_text(pages["report"])
+    inputs = page[page.index("4. Inputs"): page.index("5. Methods")]
+    for words in ("energy price", "0.100 EUR/kWh", "heating-system efficiency", "90 %",
+                  "CO2 factor", "humidity class 3", "fRsi criterion", "iso13788",
+                  "specified U 0.60", "emissivity 0.93", "reflected 20.0 °C",
+                  "distance 3.0 m", "transmittance", "Monte Carlo draws / seed", "1000 /"):
+        assert words in inputs, words
+    methods = page[page.index("5. Methods"): page.index("6. Cautions")]
+    cited = {int(n) for n in re.findall(r"\[(\d+)\]", methods)}
+    listed = len(re.findall(r'<li id="ref-', pages["report"]))
+    assert cited == set(range(1, listed + 1))  # every reference cited, numbered in order
+
+
+def test_report_is_small_with_linked_figures_and_embeds_on_request(small_run, tmp_path):
+    _, results, out = small_run
+    page = (out / "report.html").read_text(encoding="utf-8")
+    srcs = re.findall(r'<img src="([^"]+)"', page)
+    assert srcs and all(s.startswith("figures/") and (out / s).is_file() for s in srcs)
+    assert (out / "report.html").stat().st_size < 5 * 1024 * 1024
+    paths = write(results, tmp_path, out, embed=True)
     for key in ("report", "check", "summary_html"):
-        page = text_of(paths[key])
-        srcs = re.findall(r'src="([^"]*)"', page)
-        assert srcs, key
-        assert all(s.startswith("data:image/png;base64,") for s in srcs), key
-        assert "http://" not in page and "https://" not in page
-        assert "<link" not in page
-    # the embedded bytes are the figure file's bytes (base64 of RFC 4648, stdlib)
-    page = text_of(paths["report"])
-    first = re.search(r'src="data:image/png;base64,([^"]*)"', page).group(1)
-    t1 = out / "figures" / "T1-outlines.png"
-    assert base64.b64decode(first) == t1.read_bytes()
+        srcs = re.findall(r'<img src="([^"]+)"', paths[key].read_text(encoding="utf-8"))
+        assert srcs and all(s.startswith("data:image/png;base64,") for s in srcs), key
 
 
-def test_auditor_sections_units_and_words(written):
-    _, _, paths = written
-    page = text_of(paths["report"])
-    for heading in ("Survey night", "Validity of the night", "Thermograms",
-                    "Elements and U-values", "Defects, ranked", "Heat loss", "Retrofit case",
-                    "Uncertainty budget", "Method and references", "Cautions"):
-        assert f"<h2>{heading}</h2>" in page
-    # status in words, not colours alone
-    assert "PASS" in page and "WARNING" in page and "FAILED" in page
-    # failed thermogram listed with its error
-    assert "row 14 has 319 values" in page
-    for ref in ("Sakuma", "ISO 6946", "Churchill", "ISO 9869-1", "ISO 13788", "O&#x27;Grady",
-                "Asdrubali", "JCGM 101", "Fokaides", "Albatici"):
-        assert ref in page, ref
-    assert "W/(m²·K)" in page and "kWh/yr" in page and "W/K" in page
-    assert "elongated (aspect 9.1)" in page  # defect reasons shown
-    assert "@media print" in page
+def test_pages_carry_a_csp_without_scripts(pages):
+    for key, page in pages.items():
+        csp = re.search(r'http-equiv="Content-Security-Policy" content="([^"]+)"', page).group(1)
+        assert "script-src 'none'" in html.unescape(csp) and "default-src 'none'" in html.unescape(csp)
+        assert "<script" not in page.lower(), key
+        assert "http://" not in page and "https://" not in page, key
 
 
-def test_builder_sheet(written):
-    _, _, paths = written
-    page = text_of(paths["check"])
-    assert "@page{size:A4 portrait" in page
-    assert "INCONCLUSIVE" in page and "PASS" in page
-    assert "north wall" in page and "extension wall" in page
-    # only elements with a specified U are checked: the window has none
-    assert "kitchen window" not in page.split("<table>")[1].split("</table>")[0]
-    # overall line: worst of pass / inconclusive -> inconclusive
-    overall = re.search(r"<b>Overall:</b>(.*?)</p>", page).group(1)
-    assert "INCONCLUSIVE" in overall
-    assert "86 %" in page  # coverage share 0.86
+def test_only_figures_inside_the_output_folder(small_run, tmp_path):
+    _, results, out = small_run
+    secret = tmp_path / "secret.png"
+    secret.write_bytes(b"\x89PNG\r\n\x1a\n" + b"not yours")
+    r = copy.deepcopy(results)
+    figs = r["thermograms"][0]["figures"]
+    figs["thermogram"] = "../secret.png"
+    figs["frsi"] = str(secret)
+    (tmp_path / "out" / "figures").mkdir(parents=True)
+    paths = write(r, tmp_path / "x", out)
+    page = paths["report"].read_text(encoding="utf-8")
+    assert "secret" not in "".join(re.findall(r'<img src="([^"]+)"', page))
+    assert "figure not available: ../secret.png" in page
+    # a symlink inside figures/ that leads outside the output folder is refused too
+    link = tmp_path / "x" / "out" / "figures" / "room-north-thermogram.png"
+    link.unlink()
+    link.symlink_to(secret)
+    r2 = copy.deepcopy(results)
+    paths = write_reports(r2, tmp_path / "x" / "out", embed=True)
+    page = paths["report"].read_text(encoding="utf-8")
+    assert "bm90IHlvdXJz" not in page  # base64 of the foreign bytes "not yours"
 
 
-def test_homeowner_summary_plain_words_and_ranges(written):
-    results, _, paths = written
-    page = text_of(paths["summary_html"])
-    # fixture: fixes that remove a risk first (seal window frame: condensation, payback
-    # 8.4 yr; floor junction: mould, 53.1 yr), then best value (extension patch 22.5 yr
-    # before the north wall 40 yr)
-    order = [f["measure"]["name"] for f in top_fixes(results)]
-    assert order == ["seal window frame", "insulate floor junction", "top up extension patch"]
-    assert page.index("seal window frame") < page.index("insulate floor junction")
-    # ranges: seal kWh 30..84 -> 2 significant figures "30 to 84"; price 0.25 EUR/kWh
-    # (47.5/190 in the fixture) -> money 7.5..21, shown as whole units: "8 to 21"
-    assert "about 30 to 84 kWh" in page
-    assert "about 8 to 21 EUR" in page
-    assert "U-value (heat lost through each square metre" in page
-    assert "What mould risk means for you" in page
-    for caution in CAUTIONS:
-        assert esc(caution) in page
-    fixes = page.split("The fixes worth most")[1].split("What mould risk")[0]
-    assert fixes.count("<img ") == 3
-
-
-def test_pdf_pages_and_cautions(written):
-    _, _, paths = written
-    reader = pypdf.PdfReader(paths["summary_pdf"])
-    assert 2 <= len(reader.pages) <= 4
-    text = " ".join(" ".join(p.extract_text() for p in reader.pages).split())
-    assert "Thermography indicates; it does not prove." in text
-    assert "made safe" in text and "Mould is a health matter" in text
-    assert "licensed practitioners have the last word" in text
-    assert "about 30 to 84 kWh" in text
-
-
-def test_pdf_rerun_is_byte_identical(tmp_path, written):
-    results, out, paths = written
-    again = tmp_path / "again"
-    make_figures(results, again / "figures")
-    write_reports(results, again, again / "figures")
-    assert (again / "summary.pdf").read_bytes() == paths["summary_pdf"].read_bytes()
-
-
-def test_survey_strings_are_escaped(tmp_path):
-    results = load_results()
-    results["elements"][0]["name"] = EVIL
-    results["defects"][0]["element"] = EVIL
-    results["defects"][0]["reasons"].append(EVIL)
-    results["survey"]["site"]["name"] = EVIL
-    results["survey"]["surveyor"] = '"><img src=x onerror=alert(2)>'
-    results["checks"][0]["rule"] = EVIL
-    results["measures"][0]["name"] = EVIL
-    results["notes"].append("cost $5 & 10 % <b>bold</b>")
-    make_figures(results, tmp_path / "figures")
-    paths = write_reports(results, tmp_path, tmp_path / "figures")
+def test_strings_from_the_survey_are_escaped(small_run, tmp_path):
+    _, results, out = small_run
+    r = copy.deepcopy(results)
+    r["elements"][0]["label"] = EVIL
+    r["survey"]["site"]["name"] = EVIL
+    r["survey"]["surveyor"] = '"><img src=x onerror=alert(2)>'
+    r["measures"][0]["name"] = EVIL
+    r["defects"][0]["reasons"].append(EVIL)
+    r["notes"].append("cost $5 & 10 % <b>bold</b>")
+    assert validate(r) == []
+    paths = write(r, tmp_path, out)
     for key in ("report", "check", "summary_html"):
-        page = text_of(paths[key])
-        assert EVIL not in page, key
-        assert "<img src=x" not in page, key
+        page = paths[key].read_text(encoding="utf-8")
+        assert EVIL not in page and "<img src=x" not in page, key
         assert "&lt;script&gt;alert(1)&lt;/script&gt;" in page, key
-        # the only script is the page's own image check
-        assert page.count("<script>") == 1, key
-    assert "&lt;b&gt;bold&lt;/b&gt;" in text_of(paths["report"])
-    # the PDF prints the name as typed (no markup there), and still builds
-    assert 2 <= len(pypdf.PdfReader(paths["summary_pdf"]).pages) <= 4
+    assert "&lt;b&gt;bold&lt;/b&gt;" in paths["report"].read_text(encoding="utf-8")
 
 
-def test_reports_cope_with_a_sparse_survey(tmp_path):
+def test_every_caveat_is_shown_where_its_number_is(small_run, tmp_path):
+    _, results, out = small_run
+    r = copy.deepcopy(results)
+    wall = next(e for e in r["elements"] if e["name"] == "test-wall")
+    wall["u_valid"] = False
+    wall["u_note"] = "exterior surface colder than the outdoor air"
+    wall["checks"].append({"name": "night_sky", "status": "fail", "value": -0.4, "unit": "K",
+                           "rule": "exterior surface warmer than outdoor air", "scope": "view"})
+    r["defects"][0]["annual_kwh_lower_bound"] = True
+    r["series"] = [{"id": "night", "element": "test-wall", "thermogram": "room-north",
+                    "u_w_m2k": 0.5, "u_std_w_m2k": 0.1, "u_low95_w_m2k": 0.3,
+                    "u_high95_w_m2k": 0.7, "budget": [], "duration_h": 12.0, "n_frames": 24,
+                    "converged": False, "times_h": [0.0, 1.0], "u_running_w_m2k": [0.5, 0.5],
+                    "camera_offset_k": 0.0, "calibration_note": "", "checks": [],
+                    "figure": "figures/series-night.png"}]
+    assert validate(r) == []
+    paths = write(r, tmp_path, out)
+    page = visible_text(paths["report"].read_text(encoding="utf-8"))
+    els = page[page.index("1. Elements"): page.index("2. Defects")]
+    assert "not valid" in els and "exterior surface colder than the outdoor air" in els
+    assert "night-sky cooling check FAIL" in els
+    assert "Not converged by the ISO 9869-1 criteria" in els
+    defects = page[page.index("2. Defects"): page.index("3. Heat loss")]
+    assert "≥ " in defects and "energy is a lower bound" in defects
+    views = page[page.index("7. Views"):]
+    assert "assessed, a check FAILED" in views and "checks pass" not in views
+    state = view_state(r, r["thermograms"][0])
+    assert state["worst"] == "fail" and "night-sky cooling: fail" in state["problems"]
+
+
+# -- builder's sheet ---------------------------------------------------------------------------
+def test_builder_sheet_says_which_u_is_judged_and_what_to_do(pages, small_run):
+    _, results, _ = small_run
+    page = visible_text(pages["check"])
+    wall = next(e for e in results["elements"] if e["name"] == "test-wall")
+    assert "U as built" in page and "U undisturbed" in page
+    assert "judged on the undisturbed area" in page  # schema v2 judges the undisturbed U
+    assert verdict_basis(wall)["as_built"] is False
+    # the planted patch: named on the sheet with what it costs, and what to do with it
+    assert "D1 missing insulation" in page and "kWh/yr" in page
+    assert "make good D1, check again" in page
+    # the remedy comes from the uncertainty budget's largest share, not a generic list
+    top = max(wall["budget"], key=lambda b: b["share"])
+    from envelope.labels import INPUT_WORDS
+
+    assert f"To settle: (a), {round(100 * top['share'])} % of the variance" in page
+    assert f"(a) To settle an inconclusive verdict, narrow the interval: {INPUT_WORDS[top['input']]}" in page
+
+
+def test_builder_sheet_uses_planned_keys_when_present(small_run, tmp_path):
+    _, results, out = small_run
+    r = copy.deepcopy(results)
+    wall = next(e for e in r["elements"] if e["name"] == "test-wall")
+    wall.update(label="North wall, ground floor", u_whole_low95_w_m2k=0.21,
+                u_whole_high95_w_m2k=0.71, u_whole_std_w_m2k=0.13,
+                verdict_basis="whole area (as built)",
+                narrowing={"contributor": "reflected", "share": 0.61,
+                           "remedy": "measure the reflected temperature at the wall"})
+    assert validate(r) == []
+    page = visible_text(write(r, tmp_path, out)["check"].read_text(encoding="utf-8"))
+    assert "North wall, ground floor" in page and "judged as built" in page
+    assert "0.21–0.71" in page
+    assert "measure the reflected temperature at the wall" in page
+    assert "covers the undisturbed area only" not in page
+
+
+def test_builder_sheet_of_20_elements_has_every_row(survey20_results, tmp_path):
+    paths = write_reports(survey20_results, tmp_path)
+    page = visible_text(paths["check"].read_text(encoding="utf-8"))
+    assert page.count("living room wall (flat-") == 20
+    assert "FAIL" in page and "PASS" in page and "INCONCLUSIVE" in page
+
+
+# -- homeowner summary -------------------------------------------------------------------------
+def test_no_homeowner_sentence_holds_an_element_id(pages, small_run):
+    _, results, _ = small_run
+    text = visible_text(pages["summary"])
+    for e in results["elements"]:
+        assert e["name"] not in text, e["name"]
+    assert not ID.search(text), ID.search(text)
+    for word in ("(s)", "batt", "n/a"):
+        assert word not in text, word
+    assert "Test wall" in text  # the readable label instead
+
+
+def test_listed_fixes_add_up_to_the_total(small_run):
+    from envelope.report.figures import Figures
+
+    _, results, out = small_run
+    c = homeowner_context(results, Figures(out, out / "figures"))
+    assert len(c["fixes"]) == len(results["measures"]) == 2
+    assert c["total"]["cost"] == sum(f["cost"] for f in c["fixes"])
+    assert c["total"]["kwh"] == pytest.approx(sum(f["kwh"] for f in c["fixes"]), rel=0.01)
+    assert c["total"]["text"].startswith("All 2 fixes together cost about")
+    # each fix has its own picture, numbered like the fix, none shown twice
+    rels = [f["picture"]["rel"] for f in c["fixes"] if f["picture"]]
+    assert len(rels) == len(set(rels)) == 2
+    assert [f["number"] for f in c["fixes"]] == [1, 2]
+
+
+def test_largest_heat_loss_is_named_even_without_a_measure(small_run, tmp_path):
+    _, results, out = small_run
+    r = copy.deepcopy(results)
+    r["measures"] = [m for m in r["measures"] if "test-wall" not in m["targets"]]
+    r["package"] = None
+    page = visible_text(write(r, tmp_path, out)["summary_html"].read_text(encoding="utf-8"))
+    assert "Most of it goes through the test wall" in page
+    assert "prices no fix for it" in page
+
+
+def test_homeowner_cautions_hold_for_a_client_survey(pages):
+    text = visible_text(pages["summary"])
+    for caution in CAUTIONS:
+        assert caution in text
+    assert "invented" not in text.lower()
+
+
+def test_summary_pdf_from_the_same_html(small_run):
+    _, _, out = small_run
+    reader = pypdf.PdfReader(out / "summary.pdf")
+    assert 1 <= len(reader.pages) <= 4
+    text = " ".join(" ".join(p.extract_text() for p in reader.pages).split())
+    assert "Your home's heat survey" in text and "What to fix first" in text
+    assert "Local building codes and licensed practitioners have the last word" in text
+    images = sum(len(p.images) for p in reader.pages)
+    assert images >= 2  # the fixes' pictures, embedded from the output folder
+
+
+def test_reports_cope_with_sparse_results(tmp_path):
     results = {"schema": "envelope-results", "schema_version": 2, "survey": {},
                "elements": None, "defects": [], "heat_loss": None, "measures": None}
-    paths = write_reports(results, tmp_path, tmp_path / "figures")
-    assert "No element has a specified U" in text_of(paths["check"])
-    assert "n/a" in text_of(paths["report"])
-    assert 2 <= len(pypdf.PdfReader(paths["summary_pdf"]).pages) <= 4
-
-
-def test_missing_figure_is_listed_not_fatal(tmp_path):
-    results = load_results()
-    paths = write_reports(results, tmp_path, tmp_path / "figures")  # no PNGs drawn
-    assert "figure not available: figures/T1-defects.png" in text_of(paths["report"])
-    # a figure path that leaves the output folder is refused
-    results = copy.deepcopy(results)
-    results["thermograms"][0]["figures"]["overlay"] = "../../etc/passwd"
-    page = text_of(write_reports(results, tmp_path, tmp_path / "figures")["report"])
-    assert "root:" not in page
-
-
-def test_measures_table_and_about_range():
-    frame = measures_table(load_results())
-    assert len(frame) == 5 and frame["measure"].iloc[-1] == "all measures together"
-    assert about_range(123.0, 178.0, "EUR") == "about 120 to 180 EUR"
-    assert about_range(-5.0, 40.0) == "about 0 to 40"
-
-
-def test_charts_accept_energy_dataclasses(tmp_path):
-    from envelope.energy import heat_loss_coefficient
-    from envelope.plots.energy import heat_loss_chart, savings_chart
-    from envelope.retrofit import EnergyPrices, Measure, evaluate_measures
-
-    walls = [("wall", 1.5, 0.1, 40.0), ("roof", 0.6, 0.05, 30.0)]
-    ms = [Measure("lining", "add_layer", elements=("wall",), thickness_m=0.05,
-                  conductivity_w_mk=0.035, cost=3000.0)]
-    res = evaluate_measures(ms, walls, [], EnergyPrices(0.25, 0.9, 0.2, "EUR"), 2200.0)
-    p1 = savings_chart(res, tmp_path / "s.png", "EUR")
-    p2 = heat_loss_chart(heat_loss_coefficient(walls), None, tmp_path / "h.png")
-    for p in (p1, p2):
-        assert p.read_bytes().startswith(b"\x89PNG\r\n\x1a\n")  # PNG signature, RFC 2083
+    paths = write_reports(results, tmp_path)
+    assert "No element has a specified U" in paths["check"].read_text(encoding="utf-8")
+    assert "No heat-loss figures" in paths["report"].read_text(encoding="utf-8")
+    assert len(pypdf.PdfReader(paths["summary_pdf"]).pages) >= 1

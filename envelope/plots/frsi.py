@@ -1,23 +1,44 @@
-"""Temperature-factor map with the fRsi,min limit drawn as a contour line."""
+"""Temperature-factor map with what lies below the fRsi,min limits marked on the picture.
+
+The colour range comes from the elements' own pixels (widened to take in the mould limit
+when it lies near them), the limits are marked on the colour bar, and the pixels below each
+limit are covered by stripes (orange below the mould limit, vermillion below the
+condensation limit) so that the area at risk reads without telling colours apart. The
+legend gives the share of the element area below each limit.
+"""
 
 from __future__ import annotations
 
 from pathlib import Path
 
 import numpy as np
-from matplotlib.lines import Line2D
+from matplotlib import colormaps
+from matplotlib.colors import Normalize
 
-from envelope.plots.common import FACTOR_CMAP, image_axes, polygon_rings, robust_limits, save
+from envelope.plots.common import (
+    FACTOR_CMAP,
+    OKABE_ITO,
+    Sheet,
+    element_limits,
+    polygon_rings,
+    style,
+)
 
-LIMIT_COLOUR = "white"
-OUTLINE_COLOUR = "0.85"
+__all__ = ["MOULD_COLOUR", "CONDENSATION_COLOUR", "frsi_scale", "stripes", "frsi_figure"]
+
+MOULD_COLOUR = OKABE_ITO["orange"]
+CONDENSATION_COLOUR = OKABE_ITO["vermillion"]
+OUTLINE_COLOUR = "0.15"
+_NEAR = 0.15
+"""A limit closer than this to the data range [-] is brought onto the colour bar."""
 
 
 def _limit_value(limit) -> float | None:
     """A float from a number or an object with a `value` (e.g. `FrsiLimit`)."""
     if limit is None:
         return None
-    return float(getattr(limit, "value", limit))
+    value = getattr(limit, "value", limit)
+    return None if value is None else float(value)
 
 
 def _outline_xy(outline) -> list[np.ndarray]:
@@ -30,66 +51,133 @@ def _outline_xy(outline) -> list[np.ndarray]:
     return [xy]
 
 
+def frsi_scale(frsi_map, masks=None, limits=()) -> tuple[float, float]:
+    """Colour limits of a factor map: the elements' percentiles (0.5–99.5 % of each mask, or
+    of all finite pixels), widened to a limit that lies within 0.15 of them, at least 0.1
+    wide."""
+    f = np.asarray(frsi_map, dtype=float)
+    masks = list(masks) if masks is not None else [np.isfinite(f)]
+    lim = element_limits(f, masks, min_span=0.1) or (0.0, 1.0)
+    lo, hi = lim
+    for v in limits:
+        if v is not None and lo - _NEAR < v < lo:
+            lo = v - 0.02
+        if v is not None and hi < v < hi + _NEAR:
+            hi = v + 0.02
+    return lo, hi
+
+
+def stripes(mask, colour, period_px: int = 6, width_px: int = 2) -> np.ndarray:
+    """RGBA layer of diagonal stripes over `mask` (transparent elsewhere)."""
+    m = np.asarray(mask, dtype=bool)
+    rows, cols = np.indices(m.shape)
+    on = m & (((rows + cols) % period_px) < width_px)
+    rgba = np.zeros((*m.shape, 4))
+    rgba[on] = np.array([int(colour[i:i + 2], 16) / 255.0 for i in (1, 3, 5)] + [1.0])
+    return rgba
+
+
 def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None,
-                outlines=None) -> Path:
-    """Write a PNG of a temperature-factor map, with the fRsi,min limit as a contour.
+                outlines=None, *, condensation=None, masks=None, width_mm: float = 90.0,
+                m_per_px: float | None = None, uniform: bool = True, exclude=None) -> Path:
+    """Write a PNG of a temperature-factor map with the pixels below fRsi,min marked.
 
     Parameters
     ----------
     frsi_map : array_like, shape (H, W)
-        fRsi per pixel [-]; NaN pixels are left blank.
+        fRsi per pixel [-] measured on the survey night; NaN pixels are left blank.
     path : str or Path
         Output PNG.
     limit : float or FrsiLimit, optional
-        fRsi,min, drawn as a labelled contour line ("fRsi,min = 0.75"); pixels inside the
-        line are below the limit.
+        fRsi,min for mould (critical surface humidity 0.8, ISO 13788).
     title : str, optional
+        Drawn as typed (no math parsing).
     outlines : sequence, optional
-        Element outlines in pixel coordinates (shapely polygons or (N, 2) point lists,
-        frame spanning [0, W] x [0, H]).
+        Element outlines [px] (shapely polygons or (N, 2) point lists).
+    condensation : float or FrsiLimit, optional
+        fRsi,min for surface condensation (critical surface humidity 1.0).
+    masks : sequence of bool ndarray, optional
+        One mask per element: the colour range comes from these pixels and the shares below
+        the limits are of these pixels. Default: every finite pixel.
+    width_mm : float
+        Print width [mm].
+    m_per_px, uniform : float, bool
+        Pixel size on the element plane [m]; draws a scale bar.
+    exclude : bool ndarray, optional
+        Pixels kept off the colour scale and drawn in grey (warm spots: a factor above 1
+        is a heat source or a reflection, not a surface at risk).
 
     Returns
     -------
     Path
-        The written file.
 
     Notes
     -----
-    The colour scale is 0-1 (viridis), widened to the robust 1-99 % range when the map goes
-    outside it.
+    fRsi = (T_si - T_e) / (T_i - T_e) measured on the night predicts the surface
+    temperature at design conditions only as far as the night was steady (ISO 13788:2012
+    defines fRsi,min for design conditions).
     """
+    from envelope.plots.thermogram import HALO, draw_scale_bar
+
     f = np.asarray(frsi_map, dtype=float)
     if f.ndim != 2:
         raise ValueError(f"frsi_map must be a 2-D image; got shape {f.shape}")
-    lo, hi = robust_limits(f, min_span=0.0)
-    vmin, vmax = min(0.0, lo), max(1.0, hi)
-    fig, ax = image_axes(f, cmap=FACTOR_CMAP, label="Temperature factor fRsi [-]",
-                         title=title, vmin=vmin, vmax=vmax)
     h, w = f.shape
-    # Pixel convention of the project: pixel [row, col] spans [col, col+1] x [row, row+1].
-    ax.images[0].set_extent((0.0, w, h, 0.0))
-    ax.set_xlim(0.0, w)
-    ax.set_ylim(h, 0.0)
-    handles = []
-    value = _limit_value(limit)
-    if value is not None:
-        label = f"fRsi,min = {value:.2f}"
-        finite = f[np.isfinite(f)]
-        if finite.size and finite.min() < value < finite.max():
-            xs, ys = np.arange(w) + 0.5, np.arange(h) + 0.5
-            cs = ax.contour(xs, ys, np.ma.masked_invalid(f), levels=[value],
-                            colors=LIMIT_COLOUR, linewidths=1.4)
-            ax.clabel(cs, fmt={cs.levels[0]: label}, fontsize=8)
-        else:
-            side = "above" if finite.size and finite.min() >= value else "below"
-            label += f" (all pixels {side})"
-        handles.append(Line2D([], [], color=LIMIT_COLOUR, lw=1.4, label=label))
-    for outline in outlines or ():
-        for xy in _outline_xy(outline):
-            ax.plot(xy[:, 0], xy[:, 1], color=OUTLINE_COLOUR, lw=1.0, ls="--")
-    if handles:
-        leg = ax.legend(handles=handles, loc="lower right", fontsize=8, framealpha=0.6)
-        leg.get_frame().set_facecolor("0.3")
-        for text in leg.get_texts():
-            text.set_color("white")
-    return save(fig, path)
+    mould, cond = _limit_value(limit), _limit_value(condensation)
+    el = (np.logical_or.reduce([np.asarray(m, bool) for m in masks]) if masks
+          else np.isfinite(f))
+    el &= np.isfinite(f)
+    warm = np.zeros(f.shape, bool) if exclude is None else np.asarray(exclude, bool) & el
+    el &= ~warm
+    scale_masks = [np.asarray(m, bool) & ~warm for m in masks] if masks else [el]
+    lo, hi = frsi_scale(f, scale_masks, (mould, cond))
+    rgba = colormaps[FACTOR_CMAP](Normalize(lo, hi, clip=True)(np.where(np.isfinite(f), f, lo)))
+    rgba[~el] = (0.93, 0.93, 0.93, 1.0)
+    rgba[warm] = (0.62, 0.62, 0.62, 1.0)
+    rgba[~np.isfinite(f)] = (1.0, 1.0, 1.0, 1.0)
+    n_el = max(int(el.sum()), 1)
+    items, marks = [], []
+    below_c = el & (f < cond) if cond is not None else np.zeros_like(el)
+    below_m = el & (f < mould) & ~below_c if mould is not None else np.zeros_like(el)
+    if mould is not None:
+        share = (below_m | below_c).sum() / n_el
+        items.append((f"below the mould limit {mould:.2f}: {100 * share:.1f} % of the area",
+                      {"color": MOULD_COLOUR, "lw": 2.5}))
+        marks.append((mould, "mould"))
+    if cond is not None:
+        share = below_c.sum() / n_el
+        items.append((f"below the condensation limit {cond:.2f}: {100 * share:.1f} %",
+                      {"color": CONDENSATION_COLOUR, "lw": 2.5}))
+        marks.append((cond, "condensation"))
+    if mould is None and cond is None:
+        items.append(("no fRsi,min limit given", {"color": "white", "lw": 0.0}))
+    if warm.any():
+        items.append(("warm spot (factor above the wall's, off the scale)",
+                      {"color": "0.62", "lw": 5.0}))
+    pad = 2.0
+    img_w = width_mm - 2 * pad
+    img_h = img_w * h / w
+    title_h = 5.0 if title else pad
+    bar_h = 11.5 + (4.0 if marks else 0.0)
+    legend_h = 4.2 * len(items) + 1.0
+    total = title_h + img_h + bar_h + legend_h + 1.5
+    with style():
+        sheet = Sheet(width_mm, total)
+        frame = sheet.frame(pad, total - title_h - img_h, img_w, img_h, f.shape)
+        frame.image(rgba)
+        if below_m.any():
+            frame.image(stripes(below_m, MOULD_COLOUR))
+        if below_c.any():
+            frame.image(stripes(below_c, CONDENSATION_COLOUR, period_px=4))
+        if title:
+            sheet.text(pad, total - 1.0, title, size=9, va="top", ha="left")
+        for outline in outlines or ():
+            for xy in _outline_xy(outline):
+                frame.line(xy, color="white", lw=0.8, path_effects=HALO)
+        draw_scale_bar(frame, m_per_px, uniform)
+        y = frame.y0 - 1.5 - (4.0 if marks else 0.0)
+        y -= sheet.colour_bar(6.0, y, width_mm - 12.0, (lo, hi), FACTOR_CMAP,
+                              "temperature factor fRsi on the survey night [-]", f[el],
+                              marks=marks) - (4.0 if marks else 0.0)
+        sheet.legend(pad + 4.0, y, items, width_mm - 2 * pad - 4.0, ncol=1)
+        return sheet.save(path)

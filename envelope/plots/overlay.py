@@ -1,4 +1,5 @@
-"""Thermogram with the element outlines, reference zones, openings and numbered defects."""
+"""Thermogram with element outlines, reference zones and numbered marks, for raw outlines
+(the outline editor's check) as well as assessed regions."""
 
 from __future__ import annotations
 
@@ -6,35 +7,36 @@ from collections.abc import Mapping
 from pathlib import Path
 
 import numpy as np
-import shapely
 
-from envelope.plots.common import TEMPERATURE_CMAP, image_axes, polygon_rings, save
+from envelope.plots.common import OKABE_ITO, Sheet, element_limits, style
+from envelope.plots.thermogram import (
+    HALO,
+    LABEL_BOX,
+    REFERENCE_COLOUR,
+    ViewScales,
+    composite,
+    label_point,
+    view_scales,
+)
 
-ELEMENT_COLOUR = "white"
-REFERENCE_COLOUR = "cyan"
-OPENING_COLOUR = "white"
-DEFECT_COLOUR = "lime"
+__all__ = ["overlay_figure"]
 
-
-def _draw(ax, geom, colour, ls, lw=1.3):
-    for ring in polygon_rings(geom, holes=True):
-        ax.plot(ring[:, 0], ring[:, 1], ls, color=colour, lw=lw)
-
-
-def _label(ax, geom, text, colour):
-    if geom is None or geom.is_empty:
-        return
-    pt = shapely.point_on_surface(geom)
-    ax.text(pt.x, pt.y, text, color=colour, fontsize=8, ha="center", va="center",
-            bbox={"boxstyle": "round,pad=0.2", "fc": "black", "ec": "none", "alpha": 0.55})
+MARK_COLOUR = OKABE_ITO["bluish green"]
 
 
-def _mask_outline(ax, mask, colour):
-    ax.contour(np.asarray(mask, dtype=float), levels=[0.5], colors=[colour], linewidths=1.2,
-               extent=(0, mask.shape[1], mask.shape[0], 0), origin="upper")
+def _scales_of_outlines(img, outlines) -> ViewScales:
+    from envelope.outlines import rasterise
+
+    masks = [rasterise(o.polygon, img.shape) for o in outlines if o.role != "reference"]
+    any_el = np.logical_or.reduce(masks) if masks else np.zeros(img.shape, bool)
+    lim = element_limits(img, masks, min_span=2.0) or element_limits(img, [np.isfinite(img)],
+                                                                    min_span=2.0)
+    return ViewScales(lim, None, element_limits(img, [~any_el], 1.0, 99.0, 2.0), any_el,
+                      np.zeros(img.shape, bool), ~any_el)
 
 
-def overlay_figure(image_c, regions_or_outlines, path, title=None, defects=None) -> Path:
+def overlay_figure(image_c, regions_or_outlines, path, title=None, defects=None,
+                   width_mm: float = 90.0) -> Path:
     """Save a PNG of the thermogram with every outline drawn over it.
 
     Parameters
@@ -42,12 +44,15 @@ def overlay_figure(image_c, regions_or_outlines, path, title=None, defects=None)
     image_c : array_like, shape (H, W)
         Surface temperatures [°C].
     regions_or_outlines : dict of str to ElementRegion, or list of Outline
-        Element regions (net outlines, openings, reference masks) or raw outlines.
+        Element regions (net outlines, openings, reference zones) or raw outlines.
     path : str or Path
         PNG file to write.
     title : str, optional
+        Drawn as typed (no math parsing).
     defects : list of (int, shapely geometry or bool mask), optional
-        Numbered defects drawn in green with their number.
+        Numbered marks drawn in bluish green with their number.
+    width_mm : float
+        Print width [mm].
 
     Returns
     -------
@@ -57,36 +62,60 @@ def overlay_figure(image_c, regions_or_outlines, path, title=None, defects=None)
     Notes
     -----
     Element outlines are solid, reference zones dashed, openings dotted; each element is
-    labelled at a point inside it (``shapely.point_on_surface``).
+    labelled at its pole of inaccessibility.
     """
+    from envelope.outlines import rasterise
+
     img = np.asarray(image_c, dtype=float)
-    fig, ax = image_axes(img, cmap=TEMPERATURE_CMAP, title=title)
+    h, w = img.shape
     if isinstance(regions_or_outlines, Mapping):
-        for name, reg in regions_or_outlines.items():
-            ls = ":" if reg.kind in ("window", "door") else "-"
-            colour = OPENING_COLOUR if ls == ":" else ELEMENT_COLOUR
-            _draw(ax, reg.polygon_net, colour, ls, lw=1.8 if ls == ":" else 1.3)
-            if reg.reference_polygon is not None:
-                _draw(ax, reg.reference_polygon, REFERENCE_COLOUR, "--")
-            _label(ax, reg.polygon_net, name, colour)
+        scales = view_scales(img, regions_or_outlines)
+        shapes = [(r.polygon_net, "-" if r.kind not in ("window", "door") else ":", "white", name)
+                  for name, r in regions_or_outlines.items()]
+        shapes += [(r.reference_polygon, "--", REFERENCE_COLOUR, None)
+                   for r in regions_or_outlines.values() if r.reference_polygon is not None]
     else:
-        for o in regions_or_outlines:
-            if o.role == "reference":
-                _draw(ax, o.polygon, REFERENCE_COLOUR, "--")
-            else:
-                _draw(ax, o.polygon, ELEMENT_COLOUR, "-")
-                _label(ax, o.polygon, o.element, ELEMENT_COLOUR)
-    for number, shape in defects or ():
-        if isinstance(shape, np.ndarray):
-            if not shape.any():
+        outlines = list(regions_or_outlines)
+        scales = _scales_of_outlines(img, outlines)
+        shapes = [(o.polygon, "--" if o.role == "reference" else "-",
+                   REFERENCE_COLOUR if o.role == "reference" else "white",
+                   None if o.role == "reference" else o.element) for o in outlines]
+    pad = 2.0
+    img_w = width_mm - 2 * pad
+    img_h = img_w * h / w
+    title_h = 5.0 if title else pad
+    total = title_h + img_h + 13.0
+    with style():
+        sheet = Sheet(width_mm, total)
+        frame = sheet.frame(pad, total - title_h - img_h, img_w, img_h, img.shape)
+        frame.image(composite(img, scales))
+        if title:
+            sheet.text(pad, total - 1.0, title, size=9, va="top", ha="left")
+        from envelope.plots.common import polygon_rings
+
+        for geom, ls, colour, name in shapes:
+            for ring in polygon_rings(geom, holes=True):
+                frame.line(ring, color=colour, ls=ls, lw=1.0, path_effects=HALO)
+            if name and geom is not None and not geom.is_empty:
+                pt = label_point(geom)
+                frame.text(pt.x, pt.y, name, color="white", ha="center", va="center",
+                           bbox=LABEL_BOX)
+        for number, shape in defects or ():
+            geom_mask = shape if isinstance(shape, np.ndarray) else rasterise(shape, img.shape)
+            if not np.asarray(geom_mask).any():
                 continue
-            _mask_outline(ax, shape, DEFECT_COLOUR)
-            rows, cols = np.nonzero(shape)
-            ax.text(cols.mean() + 0.5, rows.mean() + 0.5, str(number), color=DEFECT_COLOUR,
-                    fontsize=9, fontweight="bold", ha="center", va="center")
-        else:
-            _draw(ax, shape, DEFECT_COLOUR, "-", lw=1.6)
-            _label(ax, shape, str(number), DEFECT_COLOUR)
-    ax.set_xlim(0, img.shape[1])
-    ax.set_ylim(img.shape[0], 0)
-    return save(fig, path)
+            if isinstance(shape, np.ndarray):
+                rows, cols = np.nonzero(shape)
+                frame.image(np.where(shape[..., None], np.array([0.0, 0.62, 0.45, 0.6]), 0.0))
+                frame.text(cols.mean() + 0.5, rows.mean() + 0.5, str(number), color="white",
+                           fontweight="bold", ha="center", va="center", path_effects=HALO)
+            else:
+                for ring in polygon_rings(shape):
+                    frame.line(ring, color=MARK_COLOUR, lw=1.4, path_effects=HALO)
+                pt = label_point(shape)
+                frame.text(pt.x, pt.y, str(number), color="white", fontweight="bold",
+                           ha="center", va="center", path_effects=HALO)
+        if scales.opaque is not None:
+            sheet.colour_bar(6.0, frame.y0 - 1.5, width_mm - 12.0, scales.opaque, "inferno",
+                             "surface temperature [°C]", img[scales.opaque_mask])
+        return sheet.save(path)

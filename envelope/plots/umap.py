@@ -1,16 +1,22 @@
-"""Per-pixel U map of a thermogram: heat flux through each pixel over the indoor–outdoor
-air difference, on the elements only."""
+"""Per-pixel U map of a view: heat flux through each pixel over the indoor–outdoor air
+difference, on the elements only (drawn for exterior views, where no fRsi map exists)."""
 
 from __future__ import annotations
 
 from pathlib import Path
 
 import numpy as np
+from matplotlib import colormaps
+from matplotlib.colors import Normalize
 
-from envelope.plots.common import FACTOR_CMAP, image_axes, polygon_rings, robust_limits, save
+from envelope.plots.common import U_CMAP, Sheet, element_limits, polygon_rings, style
+
+__all__ = ["u_map_figure"]
 
 
-def u_map_figure(u_map, regions, path: str | Path, title: str | None = None) -> Path:
+def u_map_figure(u_map, regions, path: str | Path, title: str | None = None, *,
+                 width_mm: float = 90.0, m_per_px: float | None = None,
+                 uniform: bool = True) -> Path:
     """Write the U map [W/(m²·K)] with the element outlines.
 
     Parameters
@@ -18,20 +24,43 @@ def u_map_figure(u_map, regions, path: str | Path, title: str | None = None) -> 
     u_map : array_like, shape (H, W)
         U per pixel [W/(m²·K)], NaN outside the elements.
     regions : dict[str, ElementRegion]
-        Outlines drawn over the map.
+        Outlines drawn over the map; the colour range comes from each element's pixels
+        (0.5–99.5 %, at least 0.2 W/(m²·K) wide).
     path : str or Path
         Output PNG.
+    title : str, optional
+        Drawn as typed (no math parsing).
+    width_mm : float
+        Print width [mm].
+    m_per_px, uniform : float, bool
+        Pixel size on the element plane [m]; draws a scale bar.
     """
+    from envelope.plots.thermogram import HALO, draw_scale_bar
+
     u = np.asarray(u_map, dtype=float)
-    lo, hi = robust_limits(u, min_span=0.2)
-    fig, ax = image_axes(u, cmap=FACTOR_CMAP, label="U [W/(m²·K)]", title=title,
-                         vmin=max(lo, 0.0) if lo > -0.5 else lo, vmax=hi)
     h, w = u.shape
-    ax.images[0].set_extent((0.0, w, h, 0.0))
-    for reg in (regions or {}).values():
-        for xy in polygon_rings(reg.polygon_net, holes=True):
-            ax.plot(xy[:, 0], xy[:, 1], color="white", lw=0.8)
-    ax.set_xlim(0, w)
-    ax.set_ylim(h, 0)
-    ax.set_facecolor("#d0d0d0")  # pixels off the elements
-    return save(fig, path)
+    masks = [np.asarray(r.mask, bool) for r in (regions or {}).values()] or [np.isfinite(u)]
+    lim = element_limits(u, masks, min_span=0.2) or (0.0, 1.0)
+    finite = np.isfinite(u)
+    rgba = colormaps[U_CMAP](Normalize(*lim, clip=True)(np.where(finite, u, lim[0])))
+    rgba[~finite] = (0.93, 0.93, 0.93, 1.0)
+    label = "U per pixel on the survey night [W/(m²·K)]"
+    if lim[0] < 0:
+        label = "U per pixel [W/(m²·K)]; below 0: surface colder than the outdoor air"
+    pad = 2.0
+    img_w = width_mm - 2 * pad
+    img_h = img_w * h / w
+    title_h = 5.0 if title else pad
+    total = title_h + img_h + 13.0
+    with style():
+        sheet = Sheet(width_mm, total)
+        frame = sheet.frame(pad, total - title_h - img_h, img_w, img_h, u.shape)
+        frame.image(rgba)
+        if title:
+            sheet.text(pad, total - 1.0, title, size=9, va="top", ha="left")
+        for reg in (regions or {}).values():
+            for xy in polygon_rings(reg.polygon_net, holes=True):
+                frame.line(xy, color="white", lw=0.8, path_effects=HALO)
+        draw_scale_bar(frame, m_per_px, uniform)
+        sheet.colour_bar(6.0, frame.y0 - 1.5, width_mm - 12.0, lim, U_CMAP, label, u[finite])
+        return sheet.save(path)
