@@ -413,7 +413,7 @@ def assess(
     quiet: QuietOpt = False,
     json_out: Annotated[bool, typer.Option("--json", help="Print a summary as JSON on stdout (for scripts) instead of the table. Default: off.", show_default=False)] = False,
     draws: Annotated[int | None, typer.Option("--draws", help=f"Monte Carlo draws per element [-], {DRAWS_RANGE[0]}…{DRAWS_RANGE[1]}. Default: analysis.monte_carlo_draws of the survey (20000 when the survey does not set it).", show_default=False)] = None,
-    convection: Annotated[Convection | None, typer.Option("--convection", help="Interior convective coefficient h_c [W/(m²·K)]: ensemble (the correlations that fit each surface, drawn in the Monte Carlo) or one model fixed. Default: analysis.interior_convection of the survey (ensemble when unset).", show_default=False)] = None,
+    convection: Annotated[Convection | None, typer.Option("--convection", metavar="MODEL", help="Interior convective coefficient h_c [W/(m²·K)]: ensemble (the correlations that fit each surface, drawn in the Monte Carlo) or one model fixed: iso6946, churchill_chu, alamdari_hammond, khalifa_marshall, horizontal_plate, iso15099. Default: analysis.interior_convection of the survey (ensemble when unset).", show_default=False)] = None,
 ):
     """Assess a survey: corrected temperatures, U-values with 95 % intervals, fRsi and mould/condensation risk, ranked defects, heat loss, retrofit case and the reports."""
     import dataclasses

@@ -6,6 +6,8 @@ import math
 
 import numpy as np
 
+from envelope.quantify import WARM_NOTE
+
 __all__ = ["RISK_SCORES", "rank_defects", "defect_to_dict"]
 
 RISK_SCORES = {"condensation": 2, "mould": 1, "none": 0, "not assessed": 0}
@@ -72,7 +74,7 @@ def defect_to_dict(d) -> dict:
         outline = parts[0]
     return {
         "id": d.id, "thermogram": d.thermogram, "element": d.element, "rank": d.rank,
-        "defect_class": d.defect_class,
+        "defect_class": d.defect_class, "warm_spot": WARM_NOTE in d.notes,
         "confidence": {k: round(float(v), 4) for k, v in d.confidence.items()},
         "reasons": list(d.reasons), "notes": list(d.notes),
         "area_m2": _num(d.area_m2), "length_m": _num(d.length_m), "width_m": _num(d.width_m),

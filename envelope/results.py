@@ -126,6 +126,14 @@ def _series(s) -> dict:
     return d
 
 
+def _annual(h_w_k, hdd_kd):
+    if h_w_k is None or hdd_kd is None:
+        return None
+    from envelope.energy import annual_heat_loss_kwh
+
+    return float(annual_heat_loss_kwh(h_w_k, hdd_kd))
+
+
 def _heat_loss(energy) -> dict | None:
     b = energy.balance
     if b is None:
@@ -134,7 +142,9 @@ def _heat_loss(energy) -> dict | None:
     d.update(q_survey_w=b.q_survey_w, q_design_w=b.q_design_w, design_indoor_c=b.design_indoor_c,
              design_outdoor_c=b.design_outdoor_c, hdd_kd=b.hdd_kd, annual_kwh=b.annual_kwh,
              annual_kwh_std=b.annual_kwh_std, h_low95_w_k=b.h_low95_w_k,
-             h_high95_w_k=b.h_high95_w_k, h_std_independent_w_k=b.h_std_independent_w_k)
+             h_high95_w_k=b.h_high95_w_k, h_std_independent_w_k=b.h_std_independent_w_k,
+             annual_kwh_low95=_annual(b.h_low95_w_k, b.hdd_kd),
+             annual_kwh_high95=_annual(b.h_high95_w_k, b.hdd_kd))
     if b.h_std_w_k is not None:
         d["h_std_w_k"] = b.h_std_w_k
     return d

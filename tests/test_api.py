@@ -19,10 +19,11 @@ def test_public_names_resolve():
 def test_importing_everything_keeps_the_users_matplotlib_backend():
     # A notebook user's backend must survive importing envelope and drawing a figure: the
     # figures are drawn on their own Agg canvas, never through a global backend switch.
-    code = ("import envelope, envelope.outputs, envelope.plots.common, matplotlib\n"
-            "from envelope.plots.common import image_axes, save\n"
+    code = ("import envelope, envelope.outputs, envelope.report, envelope.plots.draw, matplotlib\n"
+            "from envelope.plots.common import new_figure, save\n"
             "import numpy as np, tempfile, pathlib\n"
-            "fig, _ = image_axes(np.zeros((8, 8)), title='a $x$ title')\n"
+            "fig = new_figure(40.0, 30.0)\n"
+            "fig.add_subplot().imshow(np.zeros((8, 8)))\n"
             "save(fig, pathlib.Path(tempfile.mkdtemp()) / 'f.png')\n"
             "print(matplotlib.get_backend())\n")
     env = dict(os.environ, MPLBACKEND="svg")

@@ -18,7 +18,6 @@ import os
 import re
 from pathlib import Path
 
-import matplotlib.figure
 import pytest
 from conftest import SURVEY_TOML, outlines_geojson, write_survey
 from safety_support import DRAWS, cli, digest, error_line, names, shared_output
@@ -85,10 +84,12 @@ def test_fault_at_the_start_is_one_line(assessed, survey_dir, tmp_path, monkeypa
 
 
 def test_disk_full_while_writing_figures(survey_dir, tmp_path, monkeypatch):
-    def savefig(self, *args, **kwargs):
+    import PIL.Image
+
+    def save(self, *args, **kwargs):
         raise OSError(errno.ENOSPC, "No space left on device")  # a failed write(): no file name
 
-    monkeypatch.setattr(matplotlib.figure.Figure, "savefig", savefig)
+    monkeypatch.setattr(PIL.Image.Image, "save", save)  # figures are written through Pillow
     inputs = digest(survey_dir)
     out = tmp_path / "out"
     res = cli("assess", survey_dir, "--out", out, "--quiet", *DRAWS)

@@ -477,7 +477,12 @@ def test_rerender_rewrites_reports_and_keeps_the_folder_ours(assessed, tmp_path)
     m = read_manifest(out)
     assert "report.html" in m["files"] and strangers(out, m) == []
     assert names(tmp_path) == ["out"]
+    page = (out / "report.html").read_text(encoding="utf-8")
+    assert 'src="figures/' in page and "data:image/png;base64," not in page  # linked
+    res = cli("rerender", out, "--quiet", "--single-file")
+    assert res.exit_code == 0, res.output
     assert "data:image/png;base64," in (out / "report.html").read_text(encoding="utf-8")
+    assert strangers(out, read_manifest(out)) == []
 
 
 @pytest.mark.parametrize("content, field", [
@@ -533,11 +538,11 @@ def test_rerender_embeds_no_figure_through_a_symlink(assessed, tmp_path, what):
     out = copy_output(assessed[1], tmp_path / "out")
     outside = tmp_path / "elsewhere"
     outside.mkdir()
-    (outside / "room-north-corrected.png").write_bytes(b"\x89PNG\r\n\x1a\nSECRET")
+    (outside / "room-north-thermogram.png").write_bytes(b"\x89PNG\r\n\x1a\nSECRET")
     if what == "file":
-        (out / "figures" / "room-north-corrected.png").unlink()
-        (out / "figures" / "room-north-corrected.png").symlink_to(
-            outside / "room-north-corrected.png")
+        (out / "figures" / "room-north-thermogram.png").unlink()
+        (out / "figures" / "room-north-thermogram.png").symlink_to(
+            outside / "room-north-thermogram.png")
     else:
         figures = out / "figures"
         for f in figures.iterdir():
@@ -545,7 +550,8 @@ def test_rerender_embeds_no_figure_through_a_symlink(assessed, tmp_path, what):
         figures.rmdir()
         figures.symlink_to(outside, target_is_directory=True)
     line = _rerender_refused(out, tmp_path)
-    assert "figures.corrected: figure path passes through a symbolic link" in line
+    # the first figure field met on the way (the whole-view picture, or a close-up)
+    assert "thermograms[0].figures." in line and "passes through a symbolic link" in line
 
 
 def test_rerender_refuses_a_symlinked_results_file(assessed, tmp_path):

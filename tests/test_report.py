@@ -207,8 +207,9 @@ def test_builder_sheet_says_which_u_is_judged_and_what_to_do(pages, small_run):
     page = visible_text(pages["check"])
     wall = next(e for e in results["elements"] if e["name"] == "test-wall")
     assert "U as built" in page and "U undisturbed" in page
-    assert "judged on the undisturbed area" in page  # schema v2 judges the undisturbed U
-    assert verdict_basis(wall)["as_built"] is False
+    # the pipeline judges the element as built (whole net area, defects included)
+    assert "judged as built" in page
+    assert verdict_basis(wall)["as_built"] is True
     # the planted patch: named on the sheet with what it costs, and what to do with it
     assert "D1 missing insulation" in page and "kWh/yr" in page
     assert "make good D1, check again" in page

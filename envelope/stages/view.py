@@ -25,6 +25,7 @@ from envelope.stages.elements import (
 )
 from envelope.stages.risk import element_risk
 from envelope.survey import Analysis, Camera, Conditions, Element
+from envelope.validity import check_night_sky
 
 __all__ = ["view_defects", "assess_view"]
 
@@ -140,8 +141,17 @@ def assess_view(cv: CorrectedView, elements: Mapping[str, Element], conditions: 
         share = max(0.0, 1.0 - bad / reg.area_m2) if reg.area_m2 > 0 else None
         results.append(replace(res, coverage_share=share))
     u_map = np.where(np.isfinite(flux.q_w_m2), flux.q_w_m2 / dt, np.nan).astype(np.float32)
+    checks = tuple(cv.checks)
+    if cv.side == "exterior":  # the view's own night-sky check, over all its elements
+        on = np.zeros(cv.object_c.shape, bool)
+        for reg in cv.regions.values():
+            on |= reg.mask
+        on &= np.isfinite(cv.object_c)
+        if on.any():
+            checks += (check_night_sky(float(np.mean(cv.object_c[on])), c.outdoor_air_c,
+                                       "exterior"),)
     return ViewResult(cv.thermogram, "assessed", corrected=cv,
                       frsi=frsi if cv.side == "interior" else None, frsi_design=f_design,
                       u_map_w_m2k=u_map,
-                      elements=tuple(results), defects=tuple(found), checks=cv.checks,
+                      elements=tuple(results), defects=tuple(found), checks=checks,
                       undisturbed=kept, u_draws=draws)
