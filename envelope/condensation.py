@@ -365,13 +365,6 @@ def fixed_limit(name: str) -> FrsiLimit:
                      method=f"fixed: {name}", notes=(source,))
 
 
-def frsi_min(*args, **kwargs) -> FrsiLimit:
-    """Deprecated name of `frsi_limit` (kept until every caller uses the new name)."""
-    warnings.warn("condensation.frsi_min is renamed frsi_limit", DeprecationWarning,
-                  stacklevel=2)
-    return frsi_limit(*args, **kwargs)
-
-
 # ------------------------------------------------------------------------------ verdict
 RISK_ORDER = ("not assessed", "none", "mould", "condensation")
 """Risk strings from least to most severe."""

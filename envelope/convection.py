@@ -25,6 +25,7 @@ import numpy as np
 
 from envelope import films
 from envelope.constants import P_ATM_PA, T0_K
+from envelope.geometry import GLAZED_KINDS
 from envelope.validity import Check
 
 __all__ = [
@@ -250,7 +251,7 @@ ENSEMBLES = {
     "ceiling": ("alamdari_hammond", "khalifa_marshall", "horizontal_plate"),
     "floor": ("alamdari_hammond", "horizontal_plate", "iso6946"),
 }
-_WINDOW_KINDS = ("window", "glazing", "rooflight")
+_WINDOW_KINDS = GLAZED_KINDS
 
 
 @dataclass(frozen=True)

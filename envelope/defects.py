@@ -22,7 +22,7 @@ described regions of one thermogram and returns `Defect` records:
 - **ranking** (`rank_defects`): risk first, energy second, with the score parts spelled out.
 
 `find_defects` runs all stages on one thermogram; each defect carries its integration zone
-so that the pipeline can build one undisturbed mask per element (`undisturbed_mask`).
+so that the pipeline can build one undisturbed mask per element (`envelope.zones`).
 """
 
 from __future__ import annotations
@@ -41,6 +41,7 @@ from envelope.anomalies import (
 )
 from envelope.classification import CLASSES, classify, parallel_to
 from envelope.errors import SurveyError
+from envelope.geometry import GLAZED_KINDS
 from envelope.junctions import extend_along, junction_groups
 from envelope.outlines import rasterise
 from envelope.quantify import (
@@ -67,11 +68,10 @@ __all__ = [
     "classify",
     "rank_defects",
     "find_defects",
-    "undisturbed_mask",
     "defect_to_dict",
 ]
 
-ZONE_EXCLUDED_KINDS = ("window", "rooflight", "opening")
+ZONE_EXCLUDED_KINDS = GLAZED_KINDS
 """Element kinds an integration zone never enters (glazing has its own flux pattern)."""
 
 ZONE_PASSES = 4
@@ -395,25 +395,3 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
         defects.append(warm_defect(r, level, thermogram_id, zone))
     return rank_defects(defects)
 
-
-def undisturbed_mask(element_region, defects) -> np.ndarray:
-    """The element's undisturbed pixels: its reference zone (or mask) minus every zone.
-
-    Parameters
-    ----------
-    element_region : ElementRegion
-        ``mask`` and optional ``reference_mask``.
-    defects : iterable of Defect
-        All defects of the thermogram (their zones may cross into this element).
-
-    Returns
-    -------
-    ndarray of bool
-        The one mask that U, the defects' reference flux and the energy case use.
-    """
-    m = np.asarray(element_region.mask, bool)
-    name = getattr(element_region, "name", "element")
-    out = bridges.undisturbed_masks(
-        {name: m}, [d.zone for d in defects if d.zone is not None],
-        {name: getattr(element_region, "reference_mask", None)})
-    return out[name]

@@ -28,6 +28,8 @@ from __future__ import annotations
 import re
 import unicodedata
 
+from .constants import T0_K
+
 __all__ = ["settings_from_header", "parse_unit", "KEYS"]
 
 KEYS = {
@@ -76,7 +78,7 @@ def parse_unit(text: str) -> str | None:
 
 
 def _to_c(value: float, unit: str | None) -> float:
-    return {"K": value - 273.15, "F": (value - 32.0) * 5.0 / 9.0}.get(unit or "C", value)
+    return {"K": value - T0_K, "F": (value - 32.0) * 5.0 / 9.0}.get(unit or "C", value)
 
 
 def settings_from_header(header: dict) -> tuple[dict, list[str]]:

@@ -279,28 +279,6 @@ def convective_coefficient(
     return out if out.ndim else float(out)
 
 
-def surface_resistance(side="interior", direction="horizontal"):
-    """Conventional surface resistance of ISO 6946:2017 Table 7 [m2 K W-1].
-
-    Parameters
-    ----------
-    side : {"interior", "exterior"}
-    direction : {"horizontal", "upward", "downward"}
-        Heat-flow direction (horizontal for walls, upward for ceilings, downward for floors).
-
-    Returns
-    -------
-    float
-        Rsi 0.13 / 0.10 / 0.17 (horizontal / upward / downward), Rse 0.04.
-
-    References
-    ----------
-    [1] ISO 6946:2017, Table 7.
-    """
-    table = {"interior": R_SI_ISO6946, "exterior": dict.fromkeys(_DIRECTIONS, R_SE_ISO6946)}
-    return _choose(_choose(table, side, "side"), direction, "heat-flow direction")
-
-
 # ----------------------------------------------------------------------------- sky
 #: Amplitude of the hourly term of Berdahl & Martin (1984) [-]: +0.013 cos(2 pi t / 24).
 BM_HOURLY = 0.013

@@ -36,6 +36,8 @@ from envelope.outlines import (  # noqa: F401  (re-exported)
 KINDS = ("wall", "window", "door", "roof", "floor", "ceiling")
 """Element kinds."""
 OPENING_KINDS = ("window", "door")
+GLAZED_KINDS = ("window",)
+"""Element kinds that are glazing (design Rsi 0.13, window convection, outside defect zones)."""
 HOST_KINDS = ("wall", "roof")
 HOST_FRACTION_MIN = 0.95
 """Share of an opening's area that must lie inside its host."""

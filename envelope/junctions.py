@@ -21,6 +21,7 @@ import numpy as np
 import shapely
 
 from envelope import bridges
+from envelope.geometry import OPENING_KINDS
 
 __all__ = [
     "OPENING_KINDS",
@@ -38,8 +39,6 @@ __all__ = [
     "length_along",
 ]
 
-OPENING_KINDS = ("window", "door", "opening", "rooflight")
-"""Element kinds treated as openings."""
 
 OUTLINE_EDGE = "outline edge"
 """Junction kind of an element edge with no neighbouring outline (type unknown)."""

@@ -25,6 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .constants import T0_K
 from .errors import SurveyError
 
 __all__ = [
@@ -322,7 +323,7 @@ _SCALES = ((1.0, "K"), (0.1, "K"), (0.01, "K"), (0.001, "K"), (0.1, "C"), (0.01,
 
 def _hint(med: float) -> str:
     """The (scale, unit) pairs that put a median reading between −40 and +60 °C."""
-    fits = [(s, u) for s, u in _SCALES if -40.0 <= (med * s - (273.15 if u == "K" else 0.0)) <= 60.0]
+    fits = [(s, u) for s, u in _SCALES if -40.0 <= (med * s - (T0_K if u == "K" else 0.0)) <= 60.0]
     if not fits:
         return ""
     keys = [f"scale = {s:g}, unit = \"{u}\"" for s, u in fits]
@@ -347,7 +348,7 @@ def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.nda
     else:
         x = v
     if unit == "K":
-        x = np.asarray(x, dtype=np.float64) - 273.15
+        x = np.asarray(x, dtype=np.float64) - T0_K
     elif unit == "F":
         x = (np.asarray(x, dtype=np.float64) - 32.0) * (5.0 / 9.0)
     img = np.asarray(x, dtype=np.float32)

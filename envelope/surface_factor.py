@@ -16,6 +16,7 @@ import warnings
 import numpy as np
 
 from envelope.errors import EnvelopeWarning, SurveyError
+from envelope.geometry import GLAZED_KINDS
 from envelope.psychrometrics import _out
 
 __all__ = [
@@ -88,7 +89,7 @@ R_SI_DESIGN_OPAQUE = 0.25
 R_SI_DESIGN_GLAZING = 0.13
 """Internal surface resistance for the temperature factor of glazing and frames [m²K/W]
 (ISO 13788:2012 §4, clause from memory)."""
-GLAZING_KINDS = ("window", "rooflight", "glazing")
+GLAZING_KINDS = GLAZED_KINDS
 """Element kinds judged with the glazing resistance."""
 
 

@@ -62,11 +62,6 @@ __all__ = [
     "REMEDIES",
     "narrowing_advice",
     "defect_relative_uncertainty",
-    # earlier interface, kept for the pipeline until it calls estimate_u
-    "Calibration",
-    "UInputs",
-    "UEstimate",
-    "monte_carlo_u",
 ]
 
 
@@ -408,12 +403,20 @@ def _tape_weight(view, zone, sim):
                f"tape weight {w:.2f}")
 
 
+MAX_TRIAL_FRAMES = 2_000_000
+"""Most (trials × frames) a series Monte Carlo evaluates at once: bounds its memory (about
+0.3 GB of temporaries) whatever the length of the series."""
+
+
 def _estimate(view, zone, series, n_draws, seed, budget, keep_draws):
     _validate(view, zone, n_draws)
     frames = _frames(view, zone, series)
     nf = frames[0].size
-    V = _Variates(seed, n_draws, nf)
     notes = []
+    if n_draws * nf > MAX_TRIAL_FRAMES:
+        n_draws = max(1000, MAX_TRIAL_FRAMES // nf)
+        notes.append(f"series of {nf} frames: {n_draws} Monte Carlo trials (memory bound)")
+    V = _Variates(seed, n_draws, nf)
     w_tape = None
     if view.tape is not None and view.tape_element in ("", zone.element):
         sim0 = _simulate(view, zone, frames, _Variates(seed, n_draws, nf), tape_weight=0.0)
@@ -546,4 +549,3 @@ def estimate_series_u(view: ViewInputs, zone: ZoneInputs, series: SeriesInputs, 
     return _estimate(view, zone, series, n_draws, seed, budget, keep_draws)
 
 
-from envelope._uncertainty_compat import Calibration, UEstimate, UInputs, monte_carlo_u  # noqa: E402

@@ -10,21 +10,6 @@ from envelope import films
 
 
 # ISO 6946:2017 Table 7: Rsi 0.10 upward, 0.13 horizontal, 0.17 downward; Rse 0.04.
-@pytest.mark.parametrize(
-    "side, direction, r",
-    [
-        ("interior", "upward", 0.10),
-        ("interior", "horizontal", 0.13),
-        ("interior", "downward", 0.17),
-        ("exterior", "upward", 0.04),
-        ("exterior", "horizontal", 0.04),
-        ("exterior", "downward", 0.04),
-    ],
-)
-def test_surface_resistance_iso6946_table7(side, direction, r):
-    assert films.surface_resistance(side, direction) == r
-
-
 # ISO 6946:2017 Annex C table of the blackbody coefficient h_r0 (from memory: 4.1 at -10 °C,
 # 4.6 at 0, 5.1 at 10, 5.7 at 20, 6.3 at 30 °C); tolerance: the table's rounding to 0.1.
 @pytest.mark.parametrize("t_c, h_r0", [(-10, 4.1), (0, 4.6), (10, 5.1), (20, 5.7), (30, 6.3)])

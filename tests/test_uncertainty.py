@@ -14,17 +14,14 @@ import pytest
 from envelope import budget, convection, radiometry, synth, transmittance
 from envelope.calibration import FluxSpot, ProbeSpot, TapeSpot
 from envelope.uncertainty import (
-    Calibration,
     Camera,
     SeriesInputs,
-    UInputs,
     ViewInputs,
     ZoneInputs,
     estimate_series_u,
     estimate_u,
     heat_loss_from_draws,
     keyed_normal,
-    monte_carlo_u,
 )
 
 T_AI, T_AE, T_R, EPS = 21.0, 1.0, 19.6, 0.93
@@ -234,18 +231,6 @@ def test_advice_and_defect_uncertainty():
     expect = math.sqrt((0.2 / math.sqrt(3)) ** 2 + (math.sqrt(2) * 0.2 / math.sqrt(3) / 2) ** 2)
     assert budget.defect_relative_uncertainty(2.0, 0.2) == pytest.approx(expect)
     assert budget.defect_relative_uncertainty(0.1, 0.2) == budget.defect_relative_uncertainty(0.5, 0.2)
-
-
-def test_earlier_interface_still_runs():
-    t_si, a = _scene(offset=0.8)
-    cal = Calibration(probe_surface_c=t_si, u_probe_k=0.1, probe_apparent_c=a)
-    inp = UInputs(apparent_c=a, emissivity=EPS, u_emissivity=0.02, reflected_c=T_R,
-                  u_reflected_k=0.5, t_ai_c=T_AI, u_t_ai_k=0.2, t_ae_c=T_AE, u_t_ae_k=0.2,
-                  camera_accuracy_k=1.0, calibration=cal, h_c_model="churchill_chu")
-    est = monte_carlo_u(inp, n_draws=N)
-    assert est.calibrated and "probe" in est.calibration_note
-    assert est.t_s_mean_c == pytest.approx(t_si, abs=0.05)
-    assert est.low95 <= 0.5 <= est.high95
 
 
 def test_bad_inputs():
