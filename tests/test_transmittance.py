@@ -17,7 +17,7 @@ def test_u_interior_exact_for_a_steady_wall_with_iso6946_rsi(u):
     t_i, t_e, eps = 20.0, 0.0, 0.9
     t_si, _ = synth.steady_surface_temperatures(u, t_i, t_e, r_si=0.13, r_se=0.04)
     h_r = films.radiative_coefficient(t_si, t_i, eps)
-    h_c = 1.0 / films.surface_resistance("interior", "horizontal") - h_r
+    h_c = 1.0 / 0.13 - h_r  # ISO 6946:2017 Table 7, horizontal heat flow (from memory)
     assert tr.u_interior(t_si, t_i, t_e, t_i, eps, h_c) == pytest.approx(u, rel=1e-12)
 
 
@@ -45,7 +45,7 @@ def test_u_exterior_exact_with_iso6946_rse(u):
     # ISO 6946 Rse = 0.04: T_se = Te + q Rse; with sky = ground = air, h_c = 1/Rse - h_r.
     t_i, t_e, eps = 20.0, 2.0, 0.9
     _, t_se = synth.steady_surface_temperatures(u, t_i, t_e)
-    h_c = 1.0 / films.surface_resistance("exterior") - films.radiative_coefficient(t_se, t_e, eps)
+    h_c = 1.0 / 0.04 - films.radiative_coefficient(t_se, t_e, eps)  # ISO 6946 Table 7 Rse
     assert tr.u_exterior(t_se, t_e, t_i, eps, h_c) == pytest.approx(u, rel=1e-12)
 
 
