@@ -25,11 +25,13 @@ def test_h_r0_iso6946_table(t_c, h_r0):
 
 # ISO 6946:2017 Annex C builds Table 7 from h_ci (5.0/2.5/0.7), eps = 0.9 and h_r0 at 20 °C
 # inside; outside from h_ce = 4 + 4 v with v = 4 m/s and h_r0 at 0 °C (from memory).
-@pytest.mark.parametrize("direction", ["upward", "horizontal", "downward"])
-def test_rsi_rebuilt_from_annex_c(direction):
+@pytest.mark.parametrize("direction, r_si", [("upward", 0.10), ("horizontal", 0.13),
+                                             ("downward", 0.17)])
+def test_rsi_rebuilt_from_annex_c(direction, r_si):
+    # Table 7 values (ISO 6946:2017): Rsi 0.10 / 0.13 / 0.17 m²K/W (from memory)
     h_r = films.radiative_coefficient(20.0, 20.0, 0.9, model="linear")
     h_c = films.convective_coefficient("iso6946", direction=direction)
-    assert round(1.0 / (h_c + h_r), 2) == films.surface_resistance("interior", direction)
+    assert round(1.0 / (h_c + h_r), 2) == r_si
 
 
 def test_rse_rebuilt_from_annex_c():
@@ -109,7 +111,7 @@ def test_convective_models_and_errors():
     with pytest.raises(ValueError, match="t_s_c"):
         films.convective_coefficient("churchill_chu")
     with pytest.raises(ValueError, match="horizontal"):
-        films.surface_resistance("interior", "sideways")
+        films.convective_coefficient("iso6946", direction="sideways")
     assert set(films.MODELS) >= {"iso6946", "churchill_chu", "iso6946_wind", "mcadams"}
 
 
