@@ -92,7 +92,8 @@ def builder_context(results: Mapping, figs: Figures) -> dict:
             todo.append(("settle", f"({_LETTERS[notes_text.index(key) % 26]}){share}"))
         notes = []
         if e.get("u_valid") is False:
-            notes.append("U not valid: " + (e.get("u_note") or "see the auditor's report"))
+            notes.append("U not valid: " + (facts.clean_note(e.get("u_note"))
+                                             or "see the auditor's report"))
         bad = [c for c in e.get("checks") or [] if c.get("status") == "fail"
                and (c.get("scope") != "survey" or c.get("name") in facts.VIEW_CHECKS)]
         notes += [f"{facts.CHECK_WORDS.get(c.get('name'), c.get('name'))} "

@@ -20,7 +20,7 @@ __all__ = ["STATUS_ORDER", "VIEW_CHECKS", "CHECK_WORDS", "get", "label_of", "ele
            "defects_of", "checks_bad", "check_text", "view_state", "night_validity",
            "element_caveats", "defect_caveats", "emissivity_note", "verdict_basis",
            "judged_u", "remedy", "narrowing", "largest_losses", "risky_elements",
-           "warm_spot", "lower_bound", "energy_text", "clean_reason", "VERDICT_RULE",
+           "warm_spot", "clean_note", "lower_bound", "energy_text", "clean_reason", "VERDICT_RULE",
            "measures_ranked", "verdict_text", "risk_factor"]
 
 STATUS_ORDER = {"pass": 0, "warn": 1, "fail": 2}
@@ -240,6 +240,18 @@ def clean_reason(text: str) -> str:
     return _FRSI_REASON.sub(repl, str(text))
 
 
+_SPOTS = re.compile(r"\b(\d+) contact-probe spot\(s\) give\b")
+
+
+def clean_note(text) -> str:
+    """A note as printed: "1 contact-probe spot(s) give" → "1 contact-probe spot gives"."""
+    def repl(m):
+        n = m.group(1)
+        return f"{n} contact-probe spot gives" if n == "1" else f"{n} contact-probe spots give"
+
+    return _SPOTS.sub(repl, str(text or ""))
+
+
 def warm_spot(d: Mapping) -> bool:
     """A warm anomaly (reflection or heat source), not a defect to fix: the ``warm_spot``
     key, or (results without it) the pipeline's note."""
@@ -277,10 +289,11 @@ def element_caveats(e: Mapping) -> list[str]:
     """Every caveat an element result carries, in words, for the line under its numbers:
     validity, the tape's note, the element's own checks (in a few words), the risk note."""
     out = []
+    note = clean_note(e.get("u_note"))
     if e.get("u_valid") is False:
-        out.append("U NOT VALID" + (f": {e['u_note']}" if e.get("u_note") else ""))
-    elif e.get("u_note") and "contact-probe spot" not in str(e["u_note"]):
-        out.append(str(e["u_note"]))  # the probe's offset is in the calibration line
+        out.append("U NOT VALID" + (f": {note}" if note else ""))
+    elif note and "contact-probe spot" not in note:
+        out.append(note)  # the probe's offset is in the calibration line
     tape = emissivity_note(e)
     if tape:
         out.append(tape)
