@@ -404,9 +404,15 @@ def _series(results, figs: Figures) -> list[dict]:
     for s in results.get("series") or []:
         u = u_text(s.get("u_w_m2k"), s.get("u_low95_w_m2k"), s.get("u_high95_w_m2k"))
         dyn = None
-        if is_num(s.get("u_dynamic_w_m2k")):
-            dyn = u_text(s.get("u_dynamic_w_m2k"), s.get("u_dynamic_low95_w_m2k"),
-                         s.get("u_dynamic_high95_w_m2k"))
+        if is_num(s.get("u_dynamic_w_m2k")):  # at the average method's precision
+            dyn = num(s["u_dynamic_w_m2k"], max(u.decimals, 2))
+            lo, hi = s.get("u_dynamic_low95_w_m2k"), s.get("u_dynamic_high95_w_m2k")
+            if is_num(lo) and is_num(hi) and s["u_dynamic_w_m2k"] > 0:
+                rel = 50.0 * (hi - lo) / s["u_dynamic_w_m2k"]
+                dyn += (f" W/(m²·K) (95 % interval of the regression alone ± {rel:.1g} %; the "
+                        "systematic inputs behind the average method's interval apply to it too)")
+            else:
+                dyn += " W/(m²·K)"
         lag = s.get("u_lag_corrected_w_m2k")
         checks = [{"status": c.get("status"),
                    "name": facts.CHECK_WORDS.get(c.get("name"), c.get("name")),
