@@ -420,7 +420,7 @@ def _series(results, figs: Figures) -> list[dict]:
                   for c in s.get("checks") or []]
         out.append({"id": s.get("id"), "label": facts.label_of(results, s.get("element")),
                     "u": u, "dynamic": dyn,
-                    "lag": num(lag, u.decimals if u.decimals > 0 else 2) if is_num(lag) else "",
+                    "lag": num(lag, max(u.decimals, 2)) if is_num(lag) else "",
                     "duration": num(s.get("duration_h"), 1, "h"),
                     "frames": s.get("n_frames"), "converged": s.get("converged"),
                     "checks": checks, "notes": [facts.clean_note(n) for n in s.get("notes") or []],
