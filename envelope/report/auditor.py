@@ -450,13 +450,17 @@ def _risk_line(x: Mapping, label: str, lead: str = "") -> dict | None:
 def _key_results(results, heat) -> dict:
     night = facts.night_validity(results)
     limits = {k: get(results, "frsi_limit", k, "value") for k in ("mould", "condensation")}
-    risks = [_risk_line(e, element_label(e)) for e in facts.risky_elements(results)]
-    for d in facts.defects_of(results):
-        if d.get("risk") in ("mould", "condensation"):
-            x = dict(d, frsi_limit_mould=limits["mould"],
-                     frsi_limit_condensation=limits["condensation"])
-            risks.append(_risk_line(x, facts.label_of(results, d.get("element")),
-                                    f"{d.get('id')} {d.get('defect_class')}, "))
+    risky_defects = [d for d in facts.defects_of(results)
+                     if d.get("risk") in ("mould", "condensation")]
+    # an element whose risk a defect on it explains is named by that defect's line
+    explained = {(d.get("element"), d.get("risk")) for d in risky_defects}
+    risks = [_risk_line(e, element_label(e)) for e in facts.risky_elements(results)
+             if (e.get("name"), e.get("risk")) not in explained]
+    for d in risky_defects:
+        x = dict(d, frsi_limit_mould=limits["mould"],
+                 frsi_limit_condensation=limits["condensation"])
+        risks.append(_risk_line(x, facts.label_of(results, d.get("element")),
+                                f"{d.get('id')} {d.get('defect_class')}, "))
     order = {"condensation": 0, "mould": 1}
     risks = sorted([r for r in risks if r], key=lambda r: order.get(r["risk"], 2))
     cur = get(results, "survey", "currency", default="")
