@@ -447,3 +447,19 @@ def test_heat_loss_joint_interval_and_series_methods_shown(small_run, tmp_path):
     assert "storage lag corrected: 0.59" in series
     assert "whole days for a heavy element (ISO 9869-1) failed" in series
     assert "1 contact-probe spot gives the camera offset" in series
+
+
+def test_results_reference_names_every_key_a_run_writes(small_run, demo_run):
+    """docs/results.md names every key of real runs' results (the small survey and the demo),
+    so the reference the reports are read against stays current."""
+    doc = (Path(__file__).resolve().parents[1] / "docs" / "results.md").read_text(encoding="utf-8")
+    named = set(re.findall(r"`([a-z0-9_]+)(?:\[\])?`", doc))
+    for _, results in ((None, small_run[1]), (None, demo_run[1])):
+        keys = set(results)
+        for part in ("elements", "defects", "thermograms", "measures", "series"):
+            for item in results.get(part) or []:
+                keys |= set(item)
+        for part in ("heat_loss", "package"):
+            keys |= set(results.get(part) or {})
+        missing = sorted(keys - named)
+        assert missing == [], missing
