@@ -30,12 +30,18 @@ INPUT_WORDS = {
     "emissivity": "emissivity",
     "emissivity (tape)": "emissivity from the reference tape",
     "reflected": "reflected apparent temperature",
+    "mrt": "mean radiant temperature",
     "t_ai": "indoor air temperature",
     "t_ae": "outdoor air temperature",
+    "air_noise": "air-temperature fluctuation",
     "camera_relative": "camera relative accuracy",
     "camera_absolute": "camera absolute accuracy",
+    "camera_offset": "camera offset (absolute accuracy)",
+    "camera_noise": "camera noise",
     "probe": "contact-probe reading",
     "tape": "emissivity tape reading",
+    "flux": "heat-flux meter reading",
+    "transmittance": "atmospheric transmittance",
     "h_c": "convective film coefficient",
     "h_c_model": "choice of convection model",
     "wind": "wind speed",
@@ -48,9 +54,11 @@ INPUT_WORDS = {
 
 INPUT_SHORT = {
     "emissivity": "emissivity", "emissivity (tape)": "tape emissivity",
-    "reflected": "reflected temp.", "t_ai": "indoor air",
-    "t_ae": "outdoor air", "camera_relative": "camera rel.", "camera_absolute": "camera abs.",
-    "probe": "probe", "tape": "tape", "h_c": "h_c", "h_c_model": "h_c model", "wind": "wind",
+    "reflected": "reflected temp.", "mrt": "mean radiant", "t_ai": "indoor air",
+    "t_ae": "outdoor air", "air_noise": "air noise", "camera_relative": "camera rel.",
+    "camera_absolute": "camera abs.", "camera_offset": "camera offset",
+    "camera_noise": "camera noise", "probe": "probe", "tape": "tape", "flux": "flux meter",
+    "transmittance": "transm.", "h_c": "h_c", "h_c_model": "h_c model", "wind": "wind",
     "sky": "sky", "t_sky": "sky", "noise": "noise",
 }
 """Column headings of the uncertainty budget (the full names in `INPUT_WORDS`)."""

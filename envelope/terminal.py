@@ -12,7 +12,7 @@ from collections.abc import Mapping
 
 import envelope.report.facts as facts
 from envelope.labels import element_label, strip_control
-from envelope.report.numbers import is_num, num, u_text, value_text
+from envelope.report.numbers import is_num, u_text, value_text
 
 __all__ = ["MAX_WIDTH", "summary_lines", "print_summary"]
 
@@ -61,12 +61,10 @@ def summary_lines(results: Mapping, out_dir) -> dict:
     defects = []
     for d in facts.defects_of(results)[:8]:
         kwh = d.get("annual_kwh")
-        energy = ("warm spot" if facts.warm_spot(d) else
-                  (("≥ " if d.get("annual_kwh_lower_bound") else "") + f"{num(kwh, 0)} kWh/yr"
-                   if is_num(kwh) else ""))
+        energy = facts.energy_text(d) if facts.warm_spot(d) or is_num(kwh) else ""
         defects.append((str(d.get("rank") or ""), _clip(d.get("id") or "", 5),
                         _clip(d.get("defect_class") or "", 24),
-                        _clip(facts.label_of(results, d.get("element")), 26), energy,
+                        _clip(facts.label_of(results, d.get("element")), 20), energy,
                         str(d.get("risk") or "")))
     checked = [e for e in facts.elements_of(results) if is_num(e.get("u_specified_w_m2k"))]
     verdicts = [e.get("verdict") for e in checked]
@@ -78,7 +76,8 @@ def summary_lines(results: Mapping, out_dir) -> dict:
         for w in ("fail", "inconclusive", "pass"):
             names = [element_label(e) for e in checked if e.get("verdict") == w]
             if names:
-                parts.append(f"{w} {len(names)}: " + ", ".join(names))
+                more = f", and {len(names) - 4} more" if len(names) > 4 else ""
+                parts.append(f"{w} {len(names)}: " + ", ".join(names[:4]) + more)
         builder = f"Builder check: {_WORD[overall]} — " + "; ".join(parts)
     night = facts.night_validity(results)
     night_line = f"Night: {night['headline']}"
@@ -92,7 +91,8 @@ def summary_lines(results: Mapping, out_dir) -> dict:
     night_line += " (" + "; ".join(detail) + ")"
     failures = [f"NOT ASSESSED {strip_control(f.get('thermogram'))}: {strip_control(f.get('error'))}"
                 for f in results.get("failures") or []]
-    return {"elements": _element_rows(results), "defects": defects,
+    notes = [f"Note: {strip_control(n)}" for n in results.get("notes") or []]
+    return {"elements": _element_rows(results), "defects": defects, "notes": notes,
             "n_defects": len(results.get("defects") or []), "heat": heat,
             "outputs": f"Outputs in {strip_control(out_dir)}: report.html (auditor), check.html "
                        "(builder), summary.html and summary.pdf (homeowner)",
@@ -130,7 +130,7 @@ def print_summary(results: Mapping, out_dir, console=None) -> None:
         d = Table(box=box.SIMPLE_HEAD, padding=(0, 1), pad_edge=False,
                   title=Text(f"Defects, ranked ({s['n_defects']})", style="bold"),
                   title_justify="left")
-        for head, w in (("#", 3), ("id", 5), ("class", 24), ("element", 22), ("energy", 13),
+        for head, w in (("#", 3), ("id", 5), ("class", 24), ("element", 20), ("energy", 18),
                         ("risk", 12)):
             d.add_column(head, overflow="ellipsis", no_wrap=True, width=w)
         for row in s["defects"]:
@@ -139,7 +139,7 @@ def print_summary(results: Mapping, out_dir, console=None) -> None:
         console.print(d)
     for f in s["failures"]:
         console.print(Text(_clip(f, width), style="bold red"))
-    for line in (s["heat"], s["outputs"]):
+    for line in (s["heat"], *s["notes"], s["outputs"]):
         if line:
             console.print(Text(line), width=width)
     console.print(Text(s["builder"], style=_STYLE.get(s["builder_word"], "bold")), width=width)

@@ -137,8 +137,11 @@ def _fixes(results, figs: Figures, cur: str) -> list[dict]:
                m.get("annual_kwh_saved_high95"))
         money = (m.get("annual_money_saved_low95"), m.get("annual_money_saved"),
                  m.get("annual_money_saved_high95"))
+        low = any(facts.lower_bound(d) for d in ds)  # a leak counted by its conduction only
         body = [f"Saves {plain_range(*kwh, 'kWh')} a year"
-                + (f", worth {plain_money(*money, sym)} a year." if is_num(money[1]) else ".")]
+                + (f", worth {plain_money(*money, sym)} a year" if is_num(money[1]) else "")
+                + ("; at least that, as the heat carried by the leaking air is not counted."
+                   if low else ".")]
         if is_num(m.get("cost")):
             body.append(f"Costs about {sym}{plain_amount(m['cost'])}. " + _payback(m.get("payback_years")))
         if key(m)[0] is False:
@@ -203,8 +206,9 @@ def _problems(results) -> list[str]:
             text += f" of about {plain_amount(size)} square metres"
         kwh = d.get("annual_kwh")
         if is_num(kwh) and kwh >= 1:
-            text += (f"; it lets out about {plain_amount(kwh)} kWh a year"
-                     + (" or more" if d.get("annual_kwh_lower_bound") else ""))
+            text += (f"; it lets out at least {plain_amount(kwh)} kWh a year"
+                     if facts.lower_bound(d) else
+                     f"; it lets out about {plain_amount(kwh)} kWh a year")
         if d.get("risk") in _RISK_WORDS:
             text += f"; it {_RISK_WORDS[d['risk']]}"
         out.append(text + ".")
