@@ -335,9 +335,20 @@ def _inputs(results) -> list[dict]:
         ("defect threshold / smallest area", f"{num(an.get('defect_threshold'), 3)} / {num(an.get('defect_min_area_m2'), 3, 'm²')}", "fRsi below the reference level"),
         ("verdict tolerance", num(an.get("verdict_tolerance_w_m2k"), 2, "W/(m²·K)"), ""),
     ])
+    def spec(e):
+        if not is_num(e.get("u_specified_w_m2k")):
+            return "none"
+        basis = e.get("u_specified_basis")
+        return (f"{num(e['u_specified_w_m2k'], 2)} W/(m²·K)"
+                + (f" ({basis} temperatures)" if basis else ""))
+
+    air = s.get("airtightness")
+    if isinstance(air, Mapping) and air:
+        group("Airtightness (blower door)", [(str(k).replace("_", " "), str(v), "surveyor's input")
+                                             for k, v in air.items()])
     group("Elements", [
-        (element_label(e), f"specified U {num(e.get('u_specified_w_m2k'), 2) + ' W/(m²·K)' if is_num(e.get('u_specified_w_m2k')) else 'none'}; "
-         f"emissivity {num(e.get('emissivity'), 2)}", f"{e.get('thermogram')}: {e.get('emissivity_source') or ''}")
+        (element_label(e), f"specified U {spec(e)}; emissivity {num(e.get('emissivity'), 2)}",
+         f"{e.get('thermogram')}: {e.get('emissivity_source') or ''}")
         for e in facts.elements_of(results)])
     views = []
     for t in results.get("thermograms") or []:
