@@ -164,6 +164,30 @@ def test_frsi_map_marks_and_measures_what_is_below_the_limits(tmp_path, captured
     assert any(t.startswith(f"below the condensation limit 0.55: {100 * share_c:.1f} %")
                for t in texts)
     assert "mould" in texts and "condensation" in texts  # limits marked on the colour bar
+    assert "temperature factor fRsi on the survey night [-]" in texts
+
+
+def test_frsi_map_says_which_factor_it_shows(tmp_path, captured):
+    # the limits are defined at the design convention (Rsi 0.25 opaque, 0.13 glazing: ISO
+    # 13788 as used with BRE IP 1/06, from memory): a design-convention map says so
+    f = np.full((20, 30), 0.8)
+    frsi_figure(f, tmp_path / "d.png", limit=0.75, convention="design")
+    texts = [t.get_text() for t in captured[0].findobj(matplotlib.text.Text)]
+    assert "fRsi at design Rsi 0.25 m²K/W (glazing 0.13) [-]" in texts
+    with pytest.raises(ValueError, match="convention"):
+        frsi_figure(f, tmp_path / "e.png", convention="measured")
+
+
+def test_drawn_frsi_figures_show_the_design_convention(small_run, tmp_path, captured):
+    # the drawn map is the one the risk verdicts use when the view has it
+    from envelope.plots.draw import draw_figures
+
+    assessment, _, _ = small_run
+    assert any(v.frsi_design is not None for v in assessment.views)
+    draw_figures(assessment, tmp_path)
+    texts = {t.get_text() for fig in captured for t in fig.findobj(matplotlib.text.Text)}
+    assert "fRsi at design Rsi 0.25 m²K/W (glazing 0.13) [-]" in texts
+    assert "temperature factor fRsi on the survey night [-]" not in texts
 
 
 def test_palette_is_okabe_ito_and_scale_bars_round():

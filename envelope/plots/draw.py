@@ -67,8 +67,13 @@ def draw_figures(assessment, out_dir: str | Path, progress=None) -> dict[str, di
                           title=f"{tg.id} · {tg.side} view", scales=scales, labels=labels, **geo)
         if "frsi" in paths:
             masks = [r.mask for r in v.regions.values()]
-            frsi_figure(v.frsi, out_dir / paths["frsi"], limit=lim_m, condensation=lim_c,
-                        title=f"{tg.id} · temperature factor", masks=masks,
+            # the factor the limits are defined for (design convention) when the view has it
+            design = getattr(v, "frsi_design", None)
+            fmap, conv = (v.frsi, "night") if design is None else (design, "design")
+            frsi_figure(fmap, out_dir / paths["frsi"], limit=lim_m, condensation=lim_c,
+                        title=f"{tg.id} · " + ("fRsi at the design convention" if conv == "design"
+                                               else "temperature factor"),
+                        masks=masks, convention=conv,
                         outlines=[r.polygon_net for r in v.regions.values()], exclude=warm,
                         **geo)
         if "u_map" in paths:

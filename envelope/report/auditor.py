@@ -371,11 +371,16 @@ def _views(results, figs: Figures) -> list[dict]:
     for t in results.get("thermograms") or []:
         state = facts.view_state(results, t)
         f = t.get("figures") or {}
+        design = any(is_num(e.get("frsi_design_min")) for e in facts.elements_of(results)
+                     if e.get("thermogram") == t.get("id"))  # the map drawn at the design convention
         pics = []
         for key, cap in (("thermogram", "corrected surface temperature; elements, reference "
                           "zones and defects (tagged by id)"),
-                         ("frsi", "temperature factor measured on the night; stripes: below "
-                          "the fRsi,min limits"),
+                         ("frsi", "temperature factor at the design convention (Rsi 0.25 "
+                          "m²·K/W opaque, 0.13 glazing), what the limits are defined for; "
+                          "stripes: below the fRsi,min limits" if design else
+                          "temperature factor measured on the night; stripes: below the "
+                          "fRsi,min limits"),
                          ("u_map", "U per pixel (exterior surface method)")):
             if f.get(key):
                 pics.append({"src": figs.src(f[key]), "caption": cap, "rel": f[key]})
