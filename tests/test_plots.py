@@ -210,3 +210,19 @@ def test_plots_import_no_pyplot_and_switch_no_backend():
     out = subprocess.run([sys.executable, "-c", "import json; " + code], capture_output=True,
                          text=True, check=True)
     assert json.loads(out.stdout) == [False, True]
+
+
+def test_u_map_hatches_and_says_an_element_whose_u_is_not_valid(tmp_path, captured):
+    from envelope.plots.umap import u_map_figure
+
+    mask = np.zeros((30, 40), bool)
+    mask[5:25, 5:35] = True
+    u = np.where(mask, 0.2, np.nan)  # an exterior view under night-sky cooling (issue 16)
+    note = "not a valid result: the exterior surface is colder than the outdoor air (night-sky)"
+    u_map_figure(u, {"east wall": _region("east wall", "wall", mask)}, tmp_path / "u.png",
+                 not_valid={"east wall": note})
+    texts = [t.get_text() for t in captured[0].findobj(matplotlib.text.Text)]
+    assert "hatched: U NOT VALID (night-sky cooling)" in texts
+    u_map_figure(u, {"east wall": _region("east wall", "wall", mask)}, tmp_path / "v.png")
+    texts = [t.get_text() for t in captured[1].findobj(matplotlib.text.Text)]
+    assert not any("NOT VALID" in t for t in texts)

@@ -77,8 +77,10 @@ def draw_figures(assessment, out_dir: str | Path, progress=None) -> dict[str, di
                         outlines=[r.polygon_net for r in v.regions.values()], exclude=warm,
                         **geo)
         if "u_map" in paths:
+            bad = {e.name: e.u_note for e in v.elements if not e.u_valid}
             u_map_figure(v.u_map_w_m2k, v.regions, out_dir / paths["u_map"],
-                         title=f"{tg.id} · U per pixel", **geo)
+                         title=f"{tg.id} · U per pixel" + (" (NOT VALID)" if bad else ""),
+                         not_valid=bad, **geo)
         by_id = {d.id: d for d in defects}
         for key, rel in paths.items():
             kind, _, name = key.partition(":")
