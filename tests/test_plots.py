@@ -164,6 +164,30 @@ def test_frsi_map_marks_and_measures_what_is_below_the_limits(tmp_path, captured
     assert any(t.startswith(f"below the condensation limit 0.55: {100 * share_c:.1f} %")
                for t in texts)
     assert "mould" in texts and "condensation" in texts  # limits marked on the colour bar
+    assert "temperature factor fRsi on the survey night [-]" in texts
+
+
+def test_frsi_map_says_which_factor_it_shows(tmp_path, captured):
+    # the limits are defined at the design convention (Rsi 0.25 opaque, 0.13 glazing: ISO
+    # 13788 as used with BRE IP 1/06, from memory): a design-convention map says so
+    f = np.full((20, 30), 0.8)
+    frsi_figure(f, tmp_path / "d.png", limit=0.75, convention="design")
+    texts = [t.get_text() for t in captured[0].findobj(matplotlib.text.Text)]
+    assert "fRsi at design Rsi 0.25 m²K/W (glazing 0.13) [-]" in texts
+    with pytest.raises(ValueError, match="convention"):
+        frsi_figure(f, tmp_path / "e.png", convention="measured")
+
+
+def test_drawn_frsi_figures_show_the_design_convention(small_run, tmp_path, captured):
+    # the drawn map is the one the risk verdicts use when the view has it
+    from envelope.plots.draw import draw_figures
+
+    assessment, _, _ = small_run
+    assert any(v.frsi_design is not None for v in assessment.views)
+    draw_figures(assessment, tmp_path)
+    texts = {t.get_text() for fig in captured for t in fig.findobj(matplotlib.text.Text)}
+    assert "fRsi at design Rsi 0.25 m²K/W (glazing 0.13) [-]" in texts
+    assert "temperature factor fRsi on the survey night [-]" not in texts
 
 
 def test_palette_is_okabe_ito_and_scale_bars_round():
@@ -186,3 +210,19 @@ def test_plots_import_no_pyplot_and_switch_no_backend():
     out = subprocess.run([sys.executable, "-c", "import json; " + code], capture_output=True,
                          text=True, check=True)
     assert json.loads(out.stdout) == [False, True]
+
+
+def test_u_map_hatches_and_says_an_element_whose_u_is_not_valid(tmp_path, captured):
+    from envelope.plots.umap import u_map_figure
+
+    mask = np.zeros((30, 40), bool)
+    mask[5:25, 5:35] = True
+    u = np.where(mask, 0.2, np.nan)  # an exterior view under night-sky cooling (issue 16)
+    note = "not a valid result: the exterior surface is colder than the outdoor air (night-sky)"
+    u_map_figure(u, {"east wall": _region("east wall", "wall", mask)}, tmp_path / "u.png",
+                 not_valid={"east wall": note})
+    texts = [t.get_text() for t in captured[0].findobj(matplotlib.text.Text)]
+    assert "hatched: U NOT VALID (night-sky cooling)" in texts
+    u_map_figure(u, {"east wall": _region("east wall", "wall", mask)}, tmp_path / "v.png")
+    texts = [t.get_text() for t in captured[1].findobj(matplotlib.text.Text)]
+    assert not any("NOT VALID" in t for t in texts)

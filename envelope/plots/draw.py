@@ -67,13 +67,20 @@ def draw_figures(assessment, out_dir: str | Path, progress=None) -> dict[str, di
                           title=f"{tg.id} · {tg.side} view", scales=scales, labels=labels, **geo)
         if "frsi" in paths:
             masks = [r.mask for r in v.regions.values()]
-            frsi_figure(v.frsi, out_dir / paths["frsi"], limit=lim_m, condensation=lim_c,
-                        title=f"{tg.id} · temperature factor", masks=masks,
+            # the factor the limits are defined for (design convention) when the view has it
+            design = getattr(v, "frsi_design", None)
+            fmap, conv = (v.frsi, "night") if design is None else (design, "design")
+            frsi_figure(fmap, out_dir / paths["frsi"], limit=lim_m, condensation=lim_c,
+                        title=f"{tg.id} · " + ("fRsi at the design convention" if conv == "design"
+                                               else "temperature factor"),
+                        masks=masks, convention=conv,
                         outlines=[r.polygon_net for r in v.regions.values()], exclude=warm,
                         **geo)
         if "u_map" in paths:
+            bad = {e.name: e.u_note for e in v.elements if not e.u_valid}
             u_map_figure(v.u_map_w_m2k, v.regions, out_dir / paths["u_map"],
-                         title=f"{tg.id} · U per pixel", **geo)
+                         title=f"{tg.id} · U per pixel" + (" (NOT VALID)" if bad else ""),
+                         not_valid=bad, **geo)
         by_id = {d.id: d for d in defects}
         for key, rel in paths.items():
             kind, _, name = key.partition(":")

@@ -79,13 +79,15 @@ def stripes(mask, colour, period_px: int = 6, width_px: int = 2) -> np.ndarray:
 
 def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None,
                 outlines=None, *, condensation=None, masks=None, width_mm: float = 90.0,
-                m_per_px: float | None = None, uniform: bool = True, exclude=None) -> Path:
+                m_per_px: float | None = None, uniform: bool = True, exclude=None,
+                convention: str = "night") -> Path:
     """Write a PNG of a temperature-factor map with the pixels below fRsi,min marked.
 
     Parameters
     ----------
     frsi_map : array_like, shape (H, W)
-        fRsi per pixel [-] measured on the survey night; NaN pixels are left blank.
+        fRsi per pixel [-], measured on the survey night or at the design convention (see
+        `convention`); NaN pixels are left blank.
     path : str or Path
         Output PNG.
     limit : float or FrsiLimit, optional
@@ -106,6 +108,10 @@ def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None
     exclude : bool ndarray, optional
         Pixels kept off the colour scale and drawn in grey (warm spots: a factor above 1
         is a heat source or a reflection, not a surface at risk).
+    convention : {"night", "design"}
+        What the map holds, for the colour bar's label: the factor measured on the night,
+        or the factor at the design convention (Rsi 0.25 m²·K/W opaque, 0.13 glazing), the
+        one the fRsi,min limits are defined for.
 
     Returns
     -------
@@ -119,6 +125,10 @@ def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None
     """
     from envelope.plots.thermogram import HALO, draw_scale_bar
 
+    labels = {"night": "temperature factor fRsi on the survey night [-]",
+              "design": "fRsi at design Rsi 0.25 m²K/W (glazing 0.13) [-]"}
+    if convention not in labels:
+        raise ValueError(f"convention must be one of {sorted(labels)}; got {convention!r}")
     f = np.asarray(frsi_map, dtype=float)
     if f.ndim != 2:
         raise ValueError(f"frsi_map must be a 2-D image; got shape {f.shape}")
@@ -177,7 +187,7 @@ def frsi_figure(frsi_map, path: str | Path, limit=None, title: str | None = None
         draw_scale_bar(frame, m_per_px, uniform)
         y = frame.y0 - 1.5 - (4.0 if marks else 0.0)
         y -= sheet.colour_bar(6.0, y, width_mm - 12.0, (lo, hi), FACTOR_CMAP,
-                              "temperature factor fRsi on the survey night [-]", f[el],
+                              labels[convention], f[el],
                               marks=marks) - (4.0 if marks else 0.0)
         sheet.legend(pad + 4.0, y, items, width_mm - 2 * pad - 4.0, ncol=1)
         return sheet.save(path)

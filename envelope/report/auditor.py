@@ -335,9 +335,20 @@ def _inputs(results) -> list[dict]:
         ("defect threshold / smallest area", f"{num(an.get('defect_threshold'), 3)} / {num(an.get('defect_min_area_m2'), 3, 'm²')}", "fRsi below the reference level"),
         ("verdict tolerance", num(an.get("verdict_tolerance_w_m2k"), 2, "W/(m²·K)"), ""),
     ])
+    def spec(e):
+        if not is_num(e.get("u_specified_w_m2k")):
+            return "none"
+        basis = e.get("u_specified_basis")
+        return (f"{num(e['u_specified_w_m2k'], 2)} W/(m²·K)"
+                + (f" ({basis} temperatures)" if basis else ""))
+
+    air = s.get("airtightness")
+    if isinstance(air, Mapping) and air:
+        group("Airtightness (blower door)", [(str(k).replace("_", " "), str(v), "surveyor's input")
+                                             for k, v in air.items()])
     group("Elements", [
-        (element_label(e), f"specified U {num(e.get('u_specified_w_m2k'), 2) + ' W/(m²·K)' if is_num(e.get('u_specified_w_m2k')) else 'none'}; "
-         f"emissivity {num(e.get('emissivity'), 2)}", f"{e.get('thermogram')}: {e.get('emissivity_source') or ''}")
+        (element_label(e), f"specified U {spec(e)}; emissivity {num(e.get('emissivity'), 2)}",
+         f"{e.get('thermogram')}: {e.get('emissivity_source') or ''}")
         for e in facts.elements_of(results)])
     views = []
     for t in results.get("thermograms") or []:
@@ -360,11 +371,16 @@ def _views(results, figs: Figures) -> list[dict]:
     for t in results.get("thermograms") or []:
         state = facts.view_state(results, t)
         f = t.get("figures") or {}
+        design = any(is_num(e.get("frsi_design_min")) for e in facts.elements_of(results)
+                     if e.get("thermogram") == t.get("id"))  # the map drawn at the design convention
         pics = []
         for key, cap in (("thermogram", "corrected surface temperature; elements, reference "
                           "zones and defects (tagged by id)"),
-                         ("frsi", "temperature factor measured on the night; stripes: below "
-                          "the fRsi,min limits"),
+                         ("frsi", "temperature factor at the design convention (Rsi 0.25 "
+                          "m²·K/W opaque, 0.13 glazing), what the limits are defined for; "
+                          "stripes: below the fRsi,min limits" if design else
+                          "temperature factor measured on the night; stripes: below the "
+                          "fRsi,min limits"),
                          ("u_map", "U per pixel (exterior surface method)")):
             if f.get(key):
                 pics.append({"src": figs.src(f[key]), "caption": cap, "rel": f[key]})

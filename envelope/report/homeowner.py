@@ -193,7 +193,9 @@ def _problems(results) -> list[str]:
     for d in facts.defects_of(results):
         if facts.warm_spot(d):
             continue
-        where = facts.label_of(results, d.get("element"))
+        others = [facts.label_of(results, e, lower=True) for e in d.get("elements") or []
+                  if e != d.get("element")]
+        where = _join([facts.label_of(results, d.get("element"))] + others)
         what = class_words(d.get("defect_class"))
         size = d.get("area_m2")
         text = f"{where}: {'an' if what[:1] in 'aeiou' else 'a'} {what}"
@@ -268,6 +270,12 @@ def homeowner_context(results: Mapping, figs: Figures) -> dict:
     risks = [f"The {element_label(e, lower=True)} {_RISK_WORDS[e['risk']]}." for e in risky]
     if risks:
         short.append(risks[0])
+    # a risk the list of problems already states (a spot on that surface with that risk)
+    # is not said again below it
+    stated = {(name, d.get("risk")) for d in facts.defects_of(results) if not facts.warm_spot(d)
+              for name in [d.get("element"), *(d.get("elements") or [])]}
+    more_risks = [f"The {element_label(e, lower=True)} {_RISK_WORDS[e['risk']]}." for e in risky
+                  if (e.get("name"), e.get("risk")) not in stated]
     problems = _problems(results)
     if fixes:
         short.append(f"Best first step: {fixes[0]['title'][:1].lower()}{fixes[0]['title'][1:]}.")
@@ -282,5 +290,5 @@ def homeowner_context(results: Mapping, figs: Figures) -> dict:
                           else "We found no problem spots on the surveyed surfaces."),
         "fixes": fixes, "pictured": [f for f in fixes if f["number"] <= MAX_PICTURED_FIXES],
         "more": [f for f in fixes if f["number"] > MAX_PICTURED_FIXES],
-        "total": total, "risks": risks, "cautions": CAUTIONS,
+        "total": total, "risks": risks, "more_risks": more_risks, "cautions": CAUTIONS,
     }
