@@ -267,7 +267,7 @@ def build_defect(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n
         notes.append(f"psi with internal dimensions over {length:.2f} m" + (
             " along the junction" if g.along is not None else " (its major axis)"))
     if cls == "air leakage":
-        notes.append("extra heat flow is the conductive surface excess at survey conditions")
+        notes.append("extra_w is the conductive surface excess at survey conditions")
     polys = [r.polygon for r in members if r.polygon is not None]
     poly = polys[0] if len(polys) == 1 else (shapely.union_all(polys) if polys else None)
     cx = sum(r.centroid_px[0] * r.area_m2 for r in members) / area_m2

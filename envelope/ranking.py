@@ -6,6 +6,7 @@ import math
 
 import numpy as np
 
+from envelope.energy import Z95
 from envelope.quantify import WARM_NOTE
 
 __all__ = ["RISK_SCORES", "rank_defects", "defect_to_dict"]
@@ -60,6 +61,12 @@ def _num(x):
     return x if math.isfinite(x) else None
 
 
+def _bound(value, std, k):
+    """value + k std (a 95 % bound with k = ±1.96), or None without both."""
+    value, std = _num(value), _num(std)
+    return None if value is None or std is None else value + k * std
+
+
 def defect_to_dict(d) -> dict:
     """JSON-ready dictionary of a defect: keys carry their units, no shapely objects or masks.
 
@@ -84,6 +91,8 @@ def defect_to_dict(d) -> dict:
         "spacing_m": _num(d.spacing_m), "count": int(d.count), "extra_w": _num(d.extra_w),
         "extra_w_std": _num(d.extra_w_std), "psi_w_mk": _num(d.psi_w_mk),
         "psi_std_w_mk": _num(d.psi_std_w_mk), "psi_dimensions": d.psi_dimensions,
+        "psi_low95_w_mk": _bound(d.psi_w_mk, d.psi_std_w_mk, -Z95),
+        "psi_high95_w_mk": _bound(d.psi_w_mk, d.psi_std_w_mk, Z95),
         "chi_w_k": _num(d.chi_w_k), "chi_std_w_k": _num(d.chi_std_w_k),
         "incidence_factor": _num(d.incidence_factor),
         "incidence_area_m2": _num(d.incidence_area_m2),

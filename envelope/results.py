@@ -173,6 +173,9 @@ def to_results(a) -> dict:
                        "relative_accuracy_k": s.camera.relative_accuracy_k,
                        "noise_k": s.camera.noise_k},
             "analysis": dataclasses.asdict(s.analysis),
+            "airtightness": None if getattr(s, "airtightness", None) is None
+            else dataclasses.asdict(s.airtightness),
+            "junctions": [dataclasses.asdict(j) for j in getattr(s, "junctions", ())],
             "prices": dataclasses.asdict(s.prices),
             "climate": dataclasses.asdict(s.climate),
         },

@@ -12,7 +12,8 @@ _RESOLVE = ("a larger indoor-outdoor temperature difference on a repeat night, a
 
 
 def builder_verdict(u_low95: float, u_high95: float, u_specified: float,
-                    tolerance: float = 0.0, checks_ok: bool = True) -> tuple[str, str]:
+                    tolerance: float = 0.0, checks_ok: bool = True,
+                    remedy: str | None = None) -> tuple[str, str]:
     """Pass / fail / inconclusive verdict of a measured U against its specification.
 
     Parameters
@@ -25,6 +26,9 @@ def builder_verdict(u_low95: float, u_high95: float, u_specified: float,
         Allowance added to the specification [W m-2 K-1], >= 0.
     checks_ok : bool
         False when a survey validity check failed.
+    remedy : str, optional
+        What would narrow this interval (the largest share of its variance and the input
+        that removes it, `envelope.budget.narrowing_advice`); a generic list when absent.
 
     Returns
     -------
@@ -39,6 +43,7 @@ def builder_verdict(u_low95: float, u_high95: float, u_specified: float,
     failed survey check downgrades a pass to inconclusive; a fail stays a fail but its
     reason says the night was not fully valid.
     """
+    resolve = f"to narrow the interval, {remedy}" if remedy else _RESOLVE
     if u_specified is None or not np.isfinite(u_specified) or u_specified <= 0:
         raise ValueError(f"u_specified must be > 0, got {u_specified!r}")
     if tolerance is None or not np.isfinite(tolerance) or tolerance < 0:
@@ -48,10 +53,11 @@ def builder_verdict(u_low95: float, u_high95: float, u_specified: float,
                                          f"{tolerance:.2f})" if tolerance else "")
     if u_low95 is None or u_high95 is None or not (np.isfinite(u_low95)
                                                     and np.isfinite(u_high95)):
-        return "inconclusive", f"no measured U interval for this element; {_RESOLVE}."
+        return "inconclusive", f"no measured U interval for this element; {resolve}."
     if u_low95 > u_high95:
         raise ValueError(f"u_low95 {u_low95} is above u_high95 {u_high95}")
-    iv = f"measured 95 % interval {u_low95:.2f} to {u_high95:.2f} W/(m²·K)"
+    iv = (f"measured 95 % interval {max(u_low95, 0.0):.2f} to {u_high95:.2f} W/(m²·K)"
+          if u_low95 >= 0 else f"measured 95 % interval up to {u_high95:.2f} W/(m²·K)")
     if u_high95 <= limit:
         if not checks_ok:
             return ("inconclusive", f"{iv} is within the limit {lim_txt}, but a survey "
@@ -63,4 +69,4 @@ def builder_verdict(u_low95: float, u_high95: float, u_specified: float,
                                      "remedial work.")
         return "fail", f"{iv} lies wholly above the limit {lim_txt}.{note}"
     note = "" if checks_ok else " A survey validity check also failed."
-    return ("inconclusive", f"{iv} is not wholly on one side of the limit {lim_txt}; {_RESOLVE}.{note}")
+    return ("inconclusive", f"{iv} is not wholly on one side of the limit {lim_txt}; {resolve}.{note}")

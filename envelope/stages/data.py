@@ -121,6 +121,7 @@ class ElementResult:
     kind: str
     thermogram: str
     side: str
+    label: str | None
     area_net_m2: float
     area_source: str
     emissivity: float
@@ -136,6 +137,7 @@ class ElementResult:
     u_whole_std_w_m2k: float | None
     u_whole_low95_w_m2k: float | None
     u_whole_high95_w_m2k: float | None
+    u_whole_env_w_m2k: float | None
     u_whole_env_low95_w_m2k: float | None
     u_whole_env_high95_w_m2k: float | None
     undisturbed_share: float

@@ -295,7 +295,7 @@ def element_result(cv: CorrectedView, flux: SurfaceFlux, vin: readings.ViewInput
     w = est_whole
     res = ElementResult(
         name=element.name, kind=element.kind, thermogram=tg.id, side=cv.side,
-        area_net_m2=area, area_source="survey (measured)" if element.area_m2 is not None
+        label=getattr(element, "label", None), area_net_m2=area, area_source="survey (measured)" if element.area_m2 is not None
         else f"outline ({tg.id})", emissivity=est.emissivity,
         emissivity_source=cv.emissivity_source.get(element.name, ""),
         u_w_m2k=est.u_w_m2k, u_std_w_m2k=est.u_std_w_m2k, u_low95_w_m2k=est.u_low95_w_m2k,
@@ -306,6 +306,7 @@ def element_result(cv: CorrectedView, flux: SurfaceFlux, vin: readings.ViewInput
         u_whole_std_w_m2k=None if w is None else w.u_std_w_m2k,
         u_whole_low95_w_m2k=None if w is None else w.u_low95_w_m2k,
         u_whole_high95_w_m2k=None if w is None else w.u_high95_w_m2k,
+        u_whole_env_w_m2k=None if w is None else w.u_env_w_m2k,
         u_whole_env_low95_w_m2k=None if w is None else w.u_env_low95_w_m2k,
         u_whole_env_high95_w_m2k=None if w is None else w.u_env_high95_w_m2k,
         undisturbed_share=share, undisturbed_zone=zone_name,

@@ -39,8 +39,10 @@ def with_verdicts(elements, survey_checks, analysis: Analysis) -> tuple[ElementR
             env = e.u_specified_basis == "environmental"
             lo = e.u_whole_env_low95_w_m2k if env else e.u_whole_low95_w_m2k
             hi = e.u_whole_env_high95_w_m2k if env else e.u_whole_high95_w_m2k
+            remedy = e.narrowing[0][2] if e.narrowing else None
             verdict, reason = verdicts.builder_verdict(
-                lo, hi, e.u_specified_w_m2k, analysis.verdict_tolerance_w_m2k, checks_ok=ok)
+                lo, hi, e.u_specified_w_m2k, analysis.verdict_tolerance_w_m2k, checks_ok=ok,
+                remedy=remedy)
             basis = (f"whole net area as built (defects included), U referred to "
                      f"{BASIS_WORDS.get(e.u_specified_basis, e.u_specified_basis)}")
             e = dataclasses.replace(e, verdict=verdict, verdict_reason=reason,
