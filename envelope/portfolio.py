@@ -236,9 +236,15 @@ def _client(scheduler: str | None, workers: int | None):
             yield client, f"{len(versions)} workers at {scheduler}"
         return
     n = workers or os.cpu_count() or 1
-    with LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
-                      dashboard_address=None, silence_logs=logging.ERROR) as cluster, \
-            Client(cluster, set_as_default=False) as client:
+    try:
+        cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
+                               dashboard_address=None, silence_logs=logging.ERROR)
+    except (OSError, RuntimeError, TimeoutError) as exc:
+        raise SurveyError(f"could not start a local cluster of {n} worker processes "
+                          f"({type(exc).__name__}); from a Python script, call run_portfolio "
+                          "under `if __name__ == \"__main__\":` (workers are new processes)",
+                          None, "--workers") from None
+    with cluster, Client(cluster, set_as_default=False) as client:
         limits = [w.get("memory_limit") for w in client.scheduler_info()["workers"].values()]
         desc = f"local cluster of {n} worker processes, 1 thread each"
         if limits and limits[0]:
@@ -426,6 +432,8 @@ def rank_houses(outcomes):
 def write_table(table, folder: Path, surveys=(), hold=None, notes=None) -> None:
     """Write ``portfolio.parquet``, ``portfolio.csv``, the pages and charts into `folder`
     (staged and moved into place whole; an earlier table of the portfolio is replaced)."""
+    from pandas.api.types import is_bool_dtype, is_numeric_dtype
+
     from .folders import staged_folder
     from .manifest import read_manifest
     from .outputs import neutralise_cell
@@ -439,7 +447,7 @@ def write_table(table, folder: Path, surveys=(), hold=None, notes=None) -> None:
         table.to_parquet(tmp / "portfolio.parquet", index=False, engine="pyarrow")
         csv_frame = table.copy()
         for col in csv_frame.columns:
-            if csv_frame[col].dtype == object:
+            if not (is_numeric_dtype(csv_frame[col]) or is_bool_dtype(csv_frame[col])):
                 csv_frame[col] = csv_frame[col].map(neutralise_cell)
         csv_frame.to_csv(tmp / "portfolio.csv", index=False, float_format="%.6g",
                          lineterminator="\n")

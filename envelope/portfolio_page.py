@@ -148,7 +148,12 @@ def write_charts(table, folder: Path) -> dict[str, Path]:
                        label=f"worst risk: {RISK_WORDS[cat]}", s=28, edgecolors="black",
                        linewidths=0.4)
     if pts:
+        from matplotlib.ticker import FuncFormatter
+
         ax.set_xscale("log")
+        # plain numbers: the figures' text is never parsed as math (plots.common.save)
+        ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _pos: f"{v:g}"))
+        ax.xaxis.set_minor_formatter(FuncFormatter(lambda v, _pos: ""))
         ax.legend(fontsize="small")
     else:
         ax.text(0.5, 0.5, "no measure with a payback", ha="center", transform=ax.transAxes)
