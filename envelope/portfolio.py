@@ -36,6 +36,7 @@ from .portfolio_house import HouseOutcome, HouseTask, run_house
 
 __all__ = [
     "TABLE_FOLDER",
+    "WORKER_CONFIG",
     "Entry",
     "PortfolioRun",
     "collect_entries",
@@ -50,6 +51,16 @@ TABLE_COMMAND = "portfolio-table"
 MAX_LIST_BYTES = 16 * 1024 * 1024
 MAX_HOUSES = 1_000_000
 LIST_COLUMNS = ("house_id", "survey")
+WORKER_CONFIG = {
+    # the statistical profiler samples the task's stack every 10 ms: a survey is deep
+    # pure-Python drawing code, and the sampling cost it about a tenth of its CPU time
+    "distributed.worker.profile.enabled": False,
+    # Dask's default (glibc trims freed memory above 64 KiB back to the system) made a
+    # survey's many short-lived image arrays cost about a fifth more CPU time; unset, glibc
+    # keeps its own threshold (memory is still bounded by the worker's memory limit)
+    "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None,
+}
+"""Dask settings of the local cluster's workers (see docs/cluster.md for a cluster of your own)."""
 
 
 @dataclasses.dataclass(frozen=True)
@@ -235,10 +246,13 @@ def _client(scheduler: str | None, workers: int | None):
                                   scheduler, "--scheduler")
             yield client, f"{len(versions)} workers at {scheduler}"
         return
+    import dask
+
     n = workers or os.cpu_count() or 1
     try:
-        cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
-                               dashboard_address=None, silence_logs=logging.ERROR)
+        with dask.config.set(WORKER_CONFIG):
+            cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
+                                   dashboard_address=None, silence_logs=logging.ERROR)
     except (OSError, RuntimeError, TimeoutError) as exc:
         raise SurveyError(f"could not start a local cluster of {n} worker processes "
                           f"({type(exc).__name__}); from a Python script, call run_portfolio "

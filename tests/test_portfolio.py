@@ -22,7 +22,7 @@ from envelope.cli import app
 from envelope.defects import CLASSES
 from envelope.errors import SurveyError
 from envelope.portfolio import TABLE_FOLDER, collect_entries, rank_houses, write_table
-from envelope.portfolio_house import HouseOutcome, house_row, inputs_record, worst_risk
+from envelope.portfolio_house import DEFECT_CLASSES, HouseOutcome, house_row, inputs_record, worst_risk
 from envelope.portfolio_page import DEFECT_COLUMNS, TABLE_COLUMNS
 
 FEW_DRAWS = SURVEY_TOML.replace("monte_carlo_draws = 2000", "monte_carlo_draws = 100")
@@ -273,6 +273,7 @@ def test_written_table_and_pages_are_safe(tmp_path):
     assert (folder / "charts" / "risk.png").read_bytes()[:4] == b"\x89PNG"
     write_table(table, folder)  # a second run replaces the portfolio's own table folder
     assert list(DEFECT_COLUMNS) == [f"defects_{c.replace(' ', '_')}" for c in CLASSES]
+    assert DEFECT_CLASSES == CLASSES
 
 
 # --------------------------------------------------------------------------------------
