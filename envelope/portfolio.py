@@ -292,8 +292,8 @@ class PortfolioRun:
     """``OUT/portfolio``."""
     cluster: str
     wall_s: float
-    peak_rss_mb_per_worker: dict[int, float]
-    """Peak resident memory [MB] of each worker process that ran a house, by process id."""
+    peak_rss_mb_per_worker: dict[str, float]
+    """Peak resident memory [MB] of each worker process that ran a house, by ``host:pid``."""
 
     @property
     def failed(self) -> list[HouseOutcome]:
@@ -367,10 +367,10 @@ def run_portfolio(entries, out: str | Path, *, scheduler: str | None = None,
                 with contextlib.suppress(Exception):
                     client.cancel(pending)
     outcomes = [by_key[t.house_id] for t in tasks]
-    peaks: dict[int, float] = {}
+    peaks: dict[str, float] = {}
     for o in outcomes:
-        if o.worker_pid:
-            peaks[o.worker_pid] = max(peaks.get(o.worker_pid, 0.0), o.peak_rss_mb)
+        if o.worker:
+            peaks[o.worker] = max(peaks.get(o.worker, 0.0), o.peak_rss_mb)
     table = rank_houses(outcomes)
     folder = root / TABLE_FOLDER
     write_table(table, folder, [e.survey for e in entries], hold=hold, notes=notes)

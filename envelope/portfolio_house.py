@@ -24,6 +24,7 @@ import dataclasses
 import hashlib
 import json
 import os
+import socket
 import time
 import warnings
 from pathlib import Path
@@ -100,7 +101,8 @@ class HouseOutcome:
     cpu_s: float = 0.0
     peak_rss_mb: float = float("nan")
     """Peak resident memory of the worker process so far [MB] (``getrusage``)."""
-    worker_pid: int = 0
+    worker: str = ""
+    """``host:pid`` of the process that ran the task."""
 
 
 # --------------------------------------------------------------------------------------
@@ -394,4 +396,4 @@ def run_house(task: HouseTask) -> HouseOutcome:
         state, error, row = "failed", _message(exc), None
     return HouseOutcome(task.house_id, task.survey, state, error, row, tuple(caught),
                         time.perf_counter() - t0, time.process_time() - c0, _peak_rss_mb(),
-                        os.getpid())
+                        f"{socket.gethostname()}:{os.getpid()}")

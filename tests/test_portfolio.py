@@ -22,7 +22,13 @@ from envelope.cli import app
 from envelope.defects import CLASSES
 from envelope.errors import SurveyError
 from envelope.portfolio import TABLE_FOLDER, collect_entries, rank_houses, write_table
-from envelope.portfolio_house import DEFECT_CLASSES, HouseOutcome, house_row, inputs_record, worst_risk
+from envelope.portfolio_house import (
+    DEFECT_CLASSES,
+    HouseOutcome,
+    house_row,
+    inputs_record,
+    worst_risk,
+)
 from envelope.portfolio_page import DEFECT_COLUMNS, TABLE_COLUMNS
 
 FEW_DRAWS = SURVEY_TOML.replace("monte_carlo_draws = 2000", "monte_carlo_draws = 100")
@@ -323,18 +329,20 @@ def test_page_in_chromium(first_run, portfolio_dirs, tmp_path, width):
                                f"--window-size={width},1600", *args], capture_output=True,
                               text=True, timeout=120, check=False)
 
-    dom = chrome("--enable-logging=stderr", "--v=0", "--dump-dom", page.as_uri())
-    console = [ln for ln in dom.stderr.splitlines() if ":CONSOLE" in ln or "Uncaught" in ln]
-    assert console == [], console  # the page as written: no script, nothing refused
-    assert "<table" in dom.stdout and "house-a" in dom.stdout
-    # a copy with a probe script (the shipped page has none): images load, no sideways scroll
     html = page.read_text(encoding="utf-8")
-    probed = tmp_path / "probed.html"
+    assert "<script" not in html  # the shipped page runs nothing
+    # a copy with a probe script: images load, no sideways scroll; the page's own CSP plus
+    # script-src, so a refused image or style shows on the console as it would without it
     csp = re.search(r'http-equiv="Content-Security-Policy" content="([^"]*)"', html).group(1)
     assert "script-src" not in csp
+    probed = tmp_path / "probed.html"
     probed.write_text(html.replace(csp, csp + "; script-src &#39;unsafe-inline&#39;")
                       .replace("</body>", PROBE + "</body>"), encoding="utf-8")
-    body = re.search(r"<body[^>]*>", chrome("--dump-dom", probed.as_uri()).stdout).group(0)
+    dom = chrome("--enable-logging=stderr", "--v=0", "--dump-dom", probed.as_uri())
+    console = [ln for ln in dom.stderr.splitlines() if ":CONSOLE" in ln or "Uncaught" in ln]
+    assert console == [], console
+    assert "<table" in dom.stdout and "house-a" in dom.stdout
+    body = re.search(r"<body[^>]*>", dom.stdout).group(0)
     assert 'data-images-ok="yes"' in body, body
     overflow = int(re.search(r'data-overflow-px="(-?\d+)"', body).group(1))
     assert overflow <= 0, f"page scrolls sideways by {overflow} px at {width} px"
