@@ -530,49 +530,10 @@ def outline(
         _fail(SurveyError(f"cannot open a window here ({exc}); run on a machine with a display"))
 
 
-class _HouseProgress:
-    """A rich progress bar over houses, with the time left (silent when quiet)."""
-
-    def __init__(self, total: int, quiet: bool):
-        self.bar = None
-        self.failed = 0
-        if not quiet:
-            from rich.console import Console
-            from rich.progress import (
-                BarColumn,
-                MofNCompleteColumn,
-                Progress,
-                TextColumn,
-                TimeElapsedColumn,
-                TimeRemainingColumn,
-            )
-
-            self.bar = Progress(TextColumn("{task.description}"), BarColumn(),
-                                MofNCompleteColumn(), TimeElapsedColumn(),
-                                TextColumn("left"), TimeRemainingColumn(),
-                                console=Console(stderr=True), transient=True)
-            self.task = self.bar.add_task("houses", total=total)
-
-    def __enter__(self):
-        if self.bar:
-            self.bar.__enter__()
-        return self
-
-    def __exit__(self, *exc):
-        if self.bar:
-            self.bar.__exit__(*exc)
-
-    def __call__(self, outcome) -> None:
-        self.failed += outcome.state == "failed"
-        if self.bar:
-            self.bar.update(self.task, advance=1, description=f"houses ({self.failed} failed)"
-                            if self.failed else "houses")
-
-
 @app.command()
 def portfolio(
     surveys: Annotated[list[Path] | None, typer.Argument(help="Survey folders, or folders whose sub-folders are surveys (the sub-folder name is the house id).")] = None,
-    out: OutOpt = ...,
+    out: Annotated[Path, typer.Option("--out", "-o", help="Root of the output folders: OUT/<house id> per house and OUT/portfolio for the table; apart from every survey folder; an earlier run there is resumed.")] = ...,
     house_list: Annotated[Path | None, typer.Option("--list", help="CSV list of houses: a header with the columns house_id and survey (paths relative to the list).")] = None,
     scheduler: Annotated[str | None, typer.Option("--scheduler", help="Address of a running Dask scheduler (e.g. tcp://host:8786); default: a local cluster on this machine.")] = None,
     workers: Annotated[int | None, typer.Option("--workers", min=1, max=1024, help="Worker processes of the local cluster (default: one per core).")] = None,
@@ -586,14 +547,14 @@ def portfolio(
     `assess` writes it), skipping houses whose inputs have not changed, then write the
     portfolio table (OUT/portfolio: Parquet, CSV, HTML pages) ranked risk first, then
     savings. Exit 3 when some houses failed (listed) or had failed thermograms."""
-    from .portfolio import collect_entries, run_portfolio
+    from .portfolio import HouseProgress, collect_entries, run_portfolio
 
     notes: list[str] = []
     with guarded("houses already finished keep their outputs; the portfolio table was not "
                  "written") as interrupts:
         _check_draws(draws)
         entries = collect_entries(surveys or [], house_list)
-        with _HouseProgress(len(entries), quiet or json_out) as progress:
+        with HouseProgress(len(entries), quiet or json_out) as progress:
             run = run_portfolio(entries, out, scheduler=scheduler, workers=workers, draws=draws,
                                 convection=None if convection is None else convection.value,
                                 replace=replace, progress=progress, hold=interrupts.hold,

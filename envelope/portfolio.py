@@ -38,6 +38,7 @@ __all__ = [
     "TABLE_FOLDER",
     "WORKER_CONFIG",
     "Entry",
+    "HouseProgress",
     "PortfolioRun",
     "collect_entries",
     "rank_houses",
@@ -375,6 +376,46 @@ def run_portfolio(entries, out: str | Path, *, scheduler: str | None = None,
     folder = root / TABLE_FOLDER
     write_table(table, folder, [e.survey for e in entries], hold=hold, notes=notes)
     return PortfolioRun(outcomes, table, folder, desc, time.perf_counter() - t0, peaks)
+
+
+class HouseProgress:
+    """A rich progress bar over houses on stderr, with the time left (silent when quiet);
+    call it with each `HouseOutcome`."""
+
+    def __init__(self, total: int, quiet: bool):
+        self.bar = None
+        self.failed = 0
+        if not quiet:
+            from rich.console import Console
+            from rich.progress import (
+                BarColumn,
+                MofNCompleteColumn,
+                Progress,
+                TextColumn,
+                TimeElapsedColumn,
+                TimeRemainingColumn,
+            )
+
+            self.bar = Progress(TextColumn("{task.description}"), BarColumn(),
+                                MofNCompleteColumn(), TimeElapsedColumn(),
+                                TextColumn("left"), TimeRemainingColumn(),
+                                console=Console(stderr=True), transient=True)
+            self.task = self.bar.add_task("houses", total=total)
+
+    def __enter__(self):
+        if self.bar:
+            self.bar.__enter__()
+        return self
+
+    def __exit__(self, *exc):
+        if self.bar:
+            self.bar.__exit__(*exc)
+
+    def __call__(self, outcome) -> None:
+        self.failed += outcome.state == "failed"
+        if self.bar:
+            self.bar.update(self.task, advance=1, description=f"houses ({self.failed} failed)"
+                            if self.failed else "houses")
 
 
 # --------------------------------------------------------------------------------------
