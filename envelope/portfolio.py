@@ -209,6 +209,24 @@ def collect_entries(paths=(), list_file: str | Path | None = None) -> list[Entry
 # --------------------------------------------------------------------------------------
 
 
+@contextlib.contextmanager
+def _sigint_ignored():
+    """Ignore SIGINT while the local workers start, so that they inherit "ignored": Ctrl-C
+    in the terminal reaches every process of the group, and only this one should act on it
+    (it stops the cluster, which stops the workers). Python keeps an inherited "ignored"."""
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    old = signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGINT, old)
+
+
 def _worker_version() -> str:
     from envelope import __version__
 
@@ -251,7 +269,7 @@ def _client(scheduler: str | None, workers: int | None):
 
     n = workers or os.cpu_count() or 1
     try:
-        with dask.config.set(WORKER_CONFIG):
+        with dask.config.set(WORKER_CONFIG), _sigint_ignored():
             cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
                                    dashboard_address=None, silence_logs=logging.ERROR)
     except (OSError, RuntimeError, TimeoutError) as exc:
