@@ -14,7 +14,8 @@ import base64
 import math
 from pathlib import Path
 
-__all__ = ["ORDERINGS", "TABLE_COLUMNS", "render_page", "write_charts", "write_pages"]
+__all__ = ["ORDERINGS", "TABLE_COLUMNS", "fmt", "interval", "render_page", "write_charts",
+           "write_pages"]
 
 DEFECT_COLUMNS = (
     "defects_linear_thermal_bridge", "defects_repeating_thermal_bridge",
@@ -67,6 +68,13 @@ def fmt(value, digits: int = 1) -> str:
     """A number with `digits` decimals and thousands separators; an en dash when missing."""
     x = _num(value)
     return "–" if x is None else f"{x:,.{digits}f}"
+
+
+def interval(low, high, digits: int = 1) -> str:
+    """``low–high`` for a 95 % interval, or nothing when either end is missing."""
+    if _num(low) is None or _num(high) is None:
+        return ""
+    return f"{fmt(low, digits)}–{fmt(high, digits)}"
 
 
 def _records(table) -> list[dict]:
@@ -176,6 +184,7 @@ def _environment():
                       autoescape=True, undefined=StrictUndefined, trim_blocks=True,
                       lstrip_blocks=True)
     env.filters["fmt"] = fmt
+    env.globals["interval"] = interval
     return env
 
 

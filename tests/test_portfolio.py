@@ -276,6 +276,7 @@ def test_written_table_and_pages_are_safe(tmp_path):
         html = page.read_text(encoding="utf-8")
         assert "<script" not in html and "&lt;script&gt;" in html
         assert "&lt;b&gt;bad&lt;/b&gt;" in html
+        assert "–––" not in html  # an interval with no ends is left out, not drawn as dashes
     assert (folder / "charts" / "risk.png").read_bytes()[:4] == b"\x89PNG"
     write_table(table, folder)  # a second run replaces the portfolio's own table folder
     assert list(DEFECT_COLUMNS) == [f"defects_{c.replace(' ', '_')}" for c in CLASSES]
