@@ -355,3 +355,23 @@ def test_no_house_row_numbers_invented():
     assert row["h_w_k"] is None and row["h_per_envelope_m2_w_m2k"] is None
     assert row["worst_risk"] == "not assessed" and row["best_measure"] is None
     assert not any(isinstance(v, float) and math.isnan(v) for v in row.values())
+
+
+def test_a_folder_the_portfolio_did_not_write_is_left_alone(tmp_path):
+    from envelope.folders import staged_folder
+    from envelope.portfolio_house import HouseTask, run_house
+
+    src = write_survey(tmp_path / "s", FEW_DRAWS)
+    by_assess = tmp_path / "out" / "h1"
+    with staged_folder(by_assess, command="assess") as tmp:  # as `envelope assess` leaves it
+        (tmp / "results.json").write_text("{}", encoding="utf-8")
+    foreign = tmp_path / "out" / "h2"
+    foreign.mkdir()
+    (foreign / "notes.txt").write_text("mine", encoding="utf-8")
+    for hid, folder, replace, words in (("h1", by_assess, False, "--replace"),
+                                        ("h2", foreign, False, "--replace"),
+                                        ("h2", foreign, True, "not written by envelope")):
+        before = sorted((p.name, p.stat().st_mtime_ns) for p in folder.iterdir())
+        o = run_house(HouseTask(hid, str(src), str(folder), draws=100, replace=replace))
+        assert o.state == "failed" and words in o.error, o.error
+        assert sorted((p.name, p.stat().st_mtime_ns) for p in folder.iterdir()) == before
