@@ -528,6 +528,63 @@ def outline(
         _fail(SurveyError(f"cannot open a window here ({exc}); run on a machine with a display"))
 
 
+@app.command()
+def portfolio(
+    surveys: Annotated[list[Path] | None, typer.Argument(help="Survey folders, or folders whose sub-folders are surveys (the sub-folder name is the house id).")] = None,
+    out: Annotated[Path, typer.Option("--out", "-o", help="Root of the output folders: OUT/<house id> per house and OUT/portfolio for the table; apart from every survey folder; an earlier run there is resumed.")] = ...,
+    house_list: Annotated[Path | None, typer.Option("--list", help="CSV list of houses: a header with the columns house_id and survey (paths relative to the list).")] = None,
+    scheduler: Annotated[str | None, typer.Option("--scheduler", help="Address of a running Dask scheduler (e.g. tcp://host:8786); default: a local cluster on this machine.")] = None,
+    workers: Annotated[int | None, typer.Option("--workers", min=1, max=1024, help="Worker processes of the local cluster (default: one per core).")] = None,
+    replace: Annotated[bool, typer.Option("--replace", help="Also replace house folders written by `envelope assess` (folders of the portfolio are refreshed anyway when their survey changed).")] = False,
+    quiet: QuietOpt = False,
+    json_out: Annotated[bool, typer.Option("--json", help="Print a summary as JSON on stdout (for scripts).")] = False,
+    draws: Annotated[int | None, typer.Option("--draws", help=f"Monte Carlo draws per element, {DRAWS_RANGE[0]}…{DRAWS_RANGE[1]} (overrides every survey's analysis.monte_carlo_draws).")] = None,
+    convection: Annotated[Convection | None, typer.Option("--convection", help="Interior convection model for every survey (overrides analysis.interior_convection).")] = None,
+):
+    """Assess many surveys as tasks on Dask, one output folder per house under --out (as
+    `assess` writes it), skipping houses whose inputs have not changed, then write the
+    portfolio table (OUT/portfolio: Parquet, CSV, HTML pages) ranked risk first, then
+    savings. Exit 3 when some houses failed (listed) or had failed thermograms."""
+    from .portfolio import HouseProgress, collect_entries, run_portfolio
+
+    notes: list[str] = []
+    with guarded("houses already finished keep their outputs; the portfolio table was not "
+                 "written") as interrupts:
+        _check_draws(draws)
+        entries = collect_entries(surveys or [], house_list)
+        with HouseProgress(len(entries), quiet or json_out) as progress:
+            run = run_portfolio(entries, out, scheduler=scheduler, workers=workers, draws=draws,
+                                convection=None if convection is None else convection.value,
+                                replace=replace, progress=progress, hold=interrupts.hold,
+                                notes=notes)
+    for note in notes:
+        typer.echo(f"envelope: note: {terminal_text(note, MAX_MESSAGE_CHARS)}", err=True)
+    states = {s: sum(o.state == s for o in run.outcomes) for s in ("assessed", "up to date", "failed")}
+    peak = max(run.peak_rss_mb_per_worker.values(), default=float("nan"))
+    summary = {"out": str(out), "table": str(run.folder), "houses": len(run.outcomes), **{
+        k.replace(" ", "_"): v for k, v in states.items()},
+        "failed": [{"house_id": o.house_id, "survey": o.survey,
+                    "error": o.error or f"{o.row.get('failed_views')} thermogram(s) failed"}
+                   for o in run.failed],
+        "cluster": run.cluster, "wall_s": round(run.wall_s, 1),
+        "peak_memory_per_worker_mb": None if peak != peak else round(peak)}
+    if json_out:
+        typer.echo(terminal_json(summary))
+    elif not quiet:
+        typer.echo(f"{summary['houses']} houses on a {_t(run.cluster, 200)}: {states['assessed']} "
+                   f"assessed, {states['up to date']} up to date (skipped), {states['failed']} "
+                   f"failed; {run.wall_s:.0f} s")
+        if summary["peak_memory_per_worker_mb"] is not None:
+            typer.echo(f"peak memory of a worker process: {summary['peak_memory_per_worker_mb']} MB")
+        for f in summary["failed"]:
+            typer.echo(f"FAILED {_t(f['house_id'])} ({_t(f['survey'], 200)}): "
+                       f"{terminal_text(f['error'], MAX_MESSAGE_CHARS)}", err=True)
+        typer.echo(f"Portfolio table and pages in {_t(run.folder, 300)} (index.html, "
+                   "portfolio.csv, portfolio.parquet)")
+    if run.failed:
+        raise typer.Exit(EXIT_PARTIAL)
+
+
 def main() -> None:  # pragma: no cover - console entry
     try:
         app()
