@@ -133,31 +133,16 @@ def _check_draws(draws: int | None) -> None:
 def _input_folders(s) -> list[Path]:
     """The survey folder and the folder of every file the survey names (links resolved):
     the places an output folder must stay apart from."""
-    import dataclasses
+    from .survey import survey_paths
 
     found: dict[str, Path] = {}
-
-    def walk(obj, depth: int) -> None:
-        if depth > 8:
-            return
-        if isinstance(obj, Path):
-            try:
-                real = obj.resolve()
-                folder = real if real.is_dir() else real.parent
-            except (OSError, RuntimeError, ValueError):
-                return
-            found.setdefault(str(folder), folder)
-        elif dataclasses.is_dataclass(obj) and not isinstance(obj, type):
-            for f in dataclasses.fields(obj):
-                walk(getattr(obj, f.name, None), depth + 1)
-        elif isinstance(obj, list | tuple):
-            for item in obj:
-                walk(item, depth + 1)
-        elif isinstance(obj, dict):
-            for item in obj.values():
-                walk(item, depth + 1)
-
-    walk(s, 0)
+    for path in survey_paths(s):
+        try:
+            real = path.resolve()
+            folder = real if real.is_dir() else real.parent
+        except (OSError, RuntimeError, ValueError):
+            continue
+        found.setdefault(str(folder), folder)
     return [Path(s.root), *found.values()]
 
 
@@ -188,33 +173,11 @@ class Convection(StrEnum):
     iso15099 = "iso15099"
 
 
-class _Progress:
-    """A rich progress bar on stderr (silent when quiet)."""
+def _Progress(total: int, quiet: bool):
+    """The progress bar of `assess` (stages), `terminal.ProgressBar`."""
+    from .terminal import ProgressBar
 
-    def __init__(self, total: int, quiet: bool):
-        self.quiet = quiet
-        self.bar = None
-        if not quiet:
-            from rich.console import Console
-            from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
-
-            self.bar = Progress(TextColumn("{task.description:<12}"), BarColumn(),
-                                TextColumn("{task.completed}/{task.total}"), TimeElapsedColumn(),
-                                console=Console(stderr=True), transient=True)
-            self.task = self.bar.add_task("assessing", total=total)
-
-    def __enter__(self):
-        if self.bar:
-            self.bar.__enter__()
-        return self
-
-    def __exit__(self, *exc):
-        if self.bar:
-            self.bar.__exit__(*exc)
-
-    def __call__(self, stage: str):
-        if self.bar:
-            self.bar.update(self.task, advance=1, description=stage)
+    return ProgressBar(total, quiet)
 
 
 @app.command()

@@ -397,43 +397,25 @@ def run_portfolio(entries, out: str | Path, *, scheduler: str | None = None,
 
 
 class HouseProgress:
-    """A rich progress bar over houses on stderr, with the time left (silent when quiet);
-    call it with each `HouseOutcome`."""
+    """The progress bar over houses on stderr, with the time left (silent when quiet); call
+    it with each `HouseOutcome`."""
 
     def __init__(self, total: int, quiet: bool):
-        self.bar = None
-        self.failed = 0
-        if not quiet:
-            from rich.console import Console
-            from rich.progress import (
-                BarColumn,
-                MofNCompleteColumn,
-                Progress,
-                TextColumn,
-                TimeElapsedColumn,
-                TimeRemainingColumn,
-            )
+        from .terminal import ProgressBar
 
-            self.bar = Progress(TextColumn("{task.description}"), BarColumn(),
-                                MofNCompleteColumn(), TimeElapsedColumn(),
-                                TextColumn("left"), TimeRemainingColumn(),
-                                console=Console(stderr=True), transient=True)
-            self.task = self.bar.add_task("houses", total=total)
+        self.failed = 0
+        self.bar = ProgressBar(total, quiet, "houses", time_left=True)
 
     def __enter__(self):
-        if self.bar:
-            self.bar.__enter__()
+        self.bar.__enter__()
         return self
 
     def __exit__(self, *exc):
-        if self.bar:
-            self.bar.__exit__(*exc)
+        self.bar.__exit__(*exc)
 
     def __call__(self, outcome) -> None:
         self.failed += outcome.state == "failed"
-        if self.bar:
-            self.bar.update(self.task, advance=1, description=f"houses ({self.failed} failed)"
-                            if self.failed else "houses")
+        self.bar.advance(f"houses ({self.failed} failed)" if self.failed else "houses")
 
 
 # --------------------------------------------------------------------------------------

@@ -29,6 +29,8 @@ import time
 import warnings
 from pathlib import Path
 
+from .manifest import sha256
+
 __all__ = [
     "DEFECT_CLASSES",
     "INPUTS_FILE",
@@ -116,35 +118,9 @@ def survey_files(survey) -> list[Path]:
     Walks the survey's dataclasses for paths that are regular files; the loader has
     already checked that each lies inside the survey folder.
     """
-    found: dict[str, Path] = {}
+    from .survey import survey_paths
 
-    def walk(obj, depth: int) -> None:
-        if depth > 8:
-            return
-        if isinstance(obj, Path):
-            if obj.is_file():
-                found.setdefault(str(obj), obj)
-        elif dataclasses.is_dataclass(obj) and not isinstance(obj, type):
-            for f in dataclasses.fields(obj):
-                walk(getattr(obj, f.name, None), depth + 1)
-        elif isinstance(obj, list | tuple):
-            for item in obj:
-                walk(item, depth + 1)
-        elif isinstance(obj, dict):
-            for item in obj.values():
-                walk(item, depth + 1)
-
-    walk(survey.file, 0)
-    walk(survey, 0)
-    return list(found.values())
-
-
-def _sha256(path: Path) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        for block in iter(lambda: f.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
+    return [p for p in survey_paths(survey) if p.is_file()]
 
 
 def inputs_record(survey, draws: int | None = None, convection: str | None = None) -> dict:
@@ -173,7 +149,7 @@ def inputs_record(survey, draws: int | None = None, convection: str | None = Non
             rel = p.resolve().relative_to(root).as_posix()
         except ValueError:  # the loader keeps files inside; name it plainly if not
             rel = str(p)
-        files[rel] = _sha256(p)
+        files[rel] = sha256(p)
     files = dict(sorted(files.items()))
     joined = "".join(f"{k} {v}\n" for k, v in files.items()).encode("utf-8")
     return {"format": INPUTS_FORMAT, "version": INPUTS_VERSION, "tool_version": __version__,
@@ -191,7 +167,7 @@ def _up_to_date(out: Path, record: dict) -> bool:
     for name in (INPUTS_FILE, "results.json"):
         p = out / name
         digest = manifest["files"].get(name)
-        if digest is None or os.path.islink(p) or not p.is_file() or _sha256(p) != digest:
+        if digest is None or os.path.islink(p) or not p.is_file() or sha256(p) != digest:
             return False
     try:
         old = json.loads((out / INPUTS_FILE).read_text(encoding="utf-8"))

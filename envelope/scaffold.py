@@ -10,7 +10,6 @@ any new elements) at the end of ``survey.toml`` and leaves every line already th
 
 from __future__ import annotations
 
-import hashlib
 import json
 import os
 import re
@@ -19,6 +18,7 @@ from pathlib import Path
 
 from .errors import SurveyError
 from .loader import check_identifier, check_text
+from .manifest import sha256
 from .readers import IMAGE_SUFFIXES, TEXT_SUFFIXES, DeclarationNeeded, read_export
 from .survey import ELEMENT_KINDS, FORMAT_NAME, FORMAT_VERSION, HOST_KINDS, PLACEHOLDER, SURVEY_FILE
 from .tomledit import append_blocks, toml_value, write_atomic
@@ -79,14 +79,6 @@ def _thermogram_id(stem: str, taken: set) -> str:
     while tid in taken:
         tid, k = f"{base}-{k}", k + 1
     return tid
-
-
-def _digest(path: Path) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for chunk in iter(lambda: fh.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()
 
 
 def _check_folders(survey: Path, exports: Path) -> None:
@@ -166,7 +158,7 @@ def init_survey(survey_dir, exports_dir, elements=(), views=(), side=None, site=
     if existing:
         for t in existing.thermograms:
             if t.file is not None and t.file.is_file():
-                known[_digest(t.file)] = t.id
+                known[sha256(t.file)] = t.id
     candidates = sorted(p for p in exports.iterdir() if not p.name.startswith(".")
                         and p.suffix.lower() in TEXT_SUFFIXES + IMAGE_SUFFIXES)
     if len(candidates) > MAX_EXPORTS:
@@ -179,7 +171,7 @@ def init_survey(survey_dir, exports_dir, elements=(), views=(), side=None, site=
             continue
         if not p.is_file():
             continue
-        digest = _digest(p)
+        digest = sha256(p)
         if digest in known:
             report.already.append((p.name, known[digest]))
             continue

@@ -384,3 +384,30 @@ def load_survey(folder, incomplete: bool = False) -> Survey:
     from .loader import load
 
     return load(folder, incomplete=incomplete)
+
+
+def survey_paths(survey) -> list[Path]:
+    """Every path the loaded survey names (its file, pixels, outlines, logs...), walking its
+    dataclasses; links are not resolved here (callers choose)."""
+    import dataclasses as _dc
+
+    found: dict[str, Path] = {}
+
+    def walk(obj, depth: int) -> None:
+        if depth > 8:
+            return
+        if isinstance(obj, Path):
+            found.setdefault(str(obj), obj)
+        elif _dc.is_dataclass(obj) and not isinstance(obj, type):
+            for f in _dc.fields(obj):
+                walk(getattr(obj, f.name, None), depth + 1)
+        elif isinstance(obj, list | tuple):
+            for item in obj:
+                walk(item, depth + 1)
+        elif isinstance(obj, dict):
+            for item in obj.values():
+                walk(item, depth + 1)
+
+    walk(survey, 0)
+    return list(found.values())
+

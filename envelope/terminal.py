@@ -144,3 +144,57 @@ def print_summary(results: Mapping, out_dir, console=None) -> None:
             console.print(Text(line), width=width)
     console.print(Text(s["builder"], style=_STYLE.get(s["builder_word"], "bold")), width=width)
     console.print(Text(s["night"], style=_STYLE.get(s["night_word"], "bold")), width=width)
+
+
+class ProgressBar:
+    """A rich progress bar on stderr that advances by one per call (silent when quiet).
+
+    Parameters
+    ----------
+    total : int
+        Steps to come.
+    quiet : bool
+        No bar at all.
+    description : str
+        The first label.
+    time_left : bool
+        Also show the estimated time left (long runs of similar steps, e.g. houses).
+    """
+
+    def __init__(self, total: int, quiet: bool, description: str = "assessing",
+                 time_left: bool = False):
+        self.bar = None
+        if not quiet:
+            from rich.console import Console
+            from rich.progress import (
+                BarColumn,
+                MofNCompleteColumn,
+                Progress,
+                TextColumn,
+                TimeElapsedColumn,
+                TimeRemainingColumn,
+            )
+
+            columns = [TextColumn("{task.description:<12}"), BarColumn(), MofNCompleteColumn(),
+                       TimeElapsedColumn()]
+            if time_left:
+                columns += [TextColumn("left"), TimeRemainingColumn()]
+            self.bar = Progress(*columns, console=Console(stderr=True), transient=True)
+            self.task = self.bar.add_task(description, total=total)
+
+    def __enter__(self):
+        if self.bar:
+            self.bar.__enter__()
+        return self
+
+    def __exit__(self, *exc):
+        if self.bar:
+            self.bar.__exit__(*exc)
+
+    def advance(self, description: str) -> None:
+        if self.bar:
+            self.bar.update(self.task, advance=1, description=description)
+
+    def __call__(self, stage: str) -> None:
+        self.advance(stage)
+
