@@ -297,11 +297,11 @@ def test_no_pair_below_five_pascal_gives_note():
 
 
 def test_defects_figure_writes_png(survey_defects, tmp_path):
-    from envelope.plots.defects import defects_figure
+    from envelope.plots.thermogram import thermogram_figure
 
     (t, _, _), _, regions = scene(seed=2)
-    out = defects_figure(t, survey_defects, tmp_path / "defects.png", regions=regions,
-                         title="IR-01 north wall")
+    out = thermogram_figure(t, regions, survey_defects, tmp_path / "defects.png",
+                            title="IR-01 north wall")
     assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948)
 
 
