@@ -17,7 +17,7 @@ from typing import Annotated
 import click
 import typer
 
-from .errors import EnvelopeWarning, SurveyError
+from .errors import EnvelopeWarning, SurveyError, raised_at
 from .faults import MAX_MESSAGE_CHARS, os_error_to_survey_error, terminal_json, terminal_text
 from .interrupts import Interrupted, Interrupts
 
@@ -108,19 +108,9 @@ def guarded(on_stop: str = "nothing written"):
         except Exception as exc:
             if os.environ.get("ENVELOPE_DEBUG"):
                 raise
-            _fail(SurveyError(f"unexpected {type(exc).__name__} at {_where(exc)}; nothing "
+            _fail(SurveyError(f"unexpected {type(exc).__name__} at {raised_at(exc)}; nothing "
                               "written. This is a bug of envelope: please report it "
                               "(ENVELOPE_DEBUG=1 shows the traceback)"))
-
-
-def _where(exc: BaseException) -> str:
-    """``module.py:line`` of the innermost frame of `exc` (its text may hold input bytes)."""
-    tb = exc.__traceback__
-    while tb is not None and tb.tb_next is not None:
-        tb = tb.tb_next
-    if tb is None:
-        return "an unknown place"
-    return f"{Path(tb.tb_frame.f_code.co_filename).name}:{tb.tb_lineno}"
 
 
 def _check_draws(draws: int | None) -> None:

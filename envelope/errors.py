@@ -6,6 +6,8 @@ one-line message and exit code 2. Everything else that escapes is a bug.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 
 class EnvelopeWarning(UserWarning):
     """Suspicious but computable input (oblique view, small temperature difference...)."""
@@ -34,3 +36,16 @@ class SurveyError(ValueError):
 
 class GeometryError(SurveyError):
     """A user error in outlines or reference points."""
+
+
+def raised_at(exc: BaseException) -> str:
+    """``module.py:line`` of the innermost frame of `exc`, for a one-line bug message.
+
+    Only the file name and line: the exception's own text may hold input bytes.
+    """
+    tb = exc.__traceback__
+    while tb is not None and tb.tb_next is not None:
+        tb = tb.tb_next
+    if tb is None:
+        return "an unknown place"
+    return f"{Path(tb.tb_frame.f_code.co_filename).name}:{tb.tb_lineno}"

@@ -281,18 +281,9 @@ def _peak_rss_mb() -> float:
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0  # kB on Linux
 
 
-def _where(exc: BaseException) -> str:
-    tb = exc.__traceback__
-    while tb is not None and tb.tb_next is not None:
-        tb = tb.tb_next
-    if tb is None:
-        return "an unknown place"
-    return f"{Path(tb.tb_frame.f_code.co_filename).name}:{tb.tb_lineno}"
-
-
 def _message(exc: BaseException) -> str:
     """One line for a failed house (the CLI's wording for the same faults)."""
-    from envelope.errors import SurveyError
+    from envelope.errors import SurveyError, raised_at
     from envelope.faults import MAX_MESSAGE_CHARS, os_error_to_survey_error, terminal_text
 
     if isinstance(exc, OSError):
@@ -301,7 +292,7 @@ def _message(exc: BaseException) -> str:
         return terminal_text(exc, MAX_MESSAGE_CHARS)
     if isinstance(exc, RecursionError | MemoryError):
         return "an input is too large or nested too deeply for this worker"
-    return (f"unexpected {type(exc).__name__} at {_where(exc)}; this is a bug of envelope: "
+    return (f"unexpected {type(exc).__name__} at {raised_at(exc)}; this is a bug of envelope: "
             "please report it")
 
 
