@@ -128,7 +128,8 @@ def print_summary(results: Mapping, out_dir, console=None) -> None:
     console.print(t)
     if s["defects"]:
         d = Table(box=box.SIMPLE_HEAD, padding=(0, 1), pad_edge=False,
-                  title=Text(f"Defects, ranked ({s['n_defects']})", style="bold"),
+                  title=Text(f"Defects ({s['n_defects']}), health risk first, then energy",
+                             style="bold"),
                   title_justify="left")
         for head, w in (("#", 3), ("id", 5), ("class", 24), ("element", 20), ("energy", 18),
                         ("risk", 12)):
