@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from scipy import constants as _sc
 
-__all__ = ["SIGMA", "T0_K", "R_V_J_KGK", "P_ATM_PA"]
+__all__ = ["SIGMA", "T0_K", "R_V_J_KGK", "P_ATM_PA", "Z95"]
 
 SIGMA: float = float(_sc.Stefan_Boltzmann)
 """Stefan–Boltzmann constant [W m-2 K-4], 2π⁵k⁴/(15h³c²) from the exact constants of the
@@ -23,3 +23,6 @@ R_V_J_KGK: float = 461.5
 
 P_ATM_PA: float = float(_sc.atm)
 """Standard atmosphere [Pa] (101325, exact)."""
+
+Z95: float = 1.959963984540054
+"""Coverage factor of a two-sided 95 % interval of a normal distribution (JCGM 100:2008, G.3)."""

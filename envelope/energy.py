@@ -16,11 +16,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from envelope.constants import Z95
+
 __all__ = ["Z95", "ElementLoss", "DefectLoss", "HeatLoss", "heat_loss_coefficient",
            "heat_loss_w", "annual_heat_loss_kwh", "layer_added_u", "defect_loss"]
 
-Z95 = 1.959963984540054
-"""Coverage factor of a two-sided 95 % interval of a normal distribution (JCGM 100, G.3)."""
 
 @dataclass(frozen=True)
 class ElementLoss:
@@ -61,7 +61,6 @@ class HeatLoss:
                 "h_elements_w_k": self.h_elements_w_k, "h_defects_w_k": self.h_defects_w_k,
                 "by_element": [{"name": n, "h_w_k": h} for n, h in self.by_element],
                 "by_defect": [{"id": i, "h_w_k": h} for i, h in self.by_defect]}
-
 
 
 def _as_element(e) -> ElementLoss:
@@ -189,7 +188,6 @@ def layer_added_u(u_w_m2k, thickness_m, conductivity_w_mk):
         raise ValueError(f"layer_added_u: need U > 0, thickness >= 0, conductivity > 0; "
                          f"got U={u_w_m2k}, d={thickness_m}, lambda={conductivity_w_mk}")
     return 1.0 / (1.0 / u + d / lam)
-
 
 
 def defect_loss(defect_id: str, defect_class: str, extra_w: float, extra_w_std: float,

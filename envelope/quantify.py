@@ -15,6 +15,7 @@ import shapely
 from envelope import bridges, infiltration
 from envelope.anomalies import Region
 from envelope.classification import CLASSES
+from envelope.constants import Z95
 from envelope.junctions import OUTLINE_EDGE, default_psi, junction_verdict
 
 __all__ = [
@@ -32,9 +33,6 @@ __all__ = [
 
 WARM_NOTE = "warmer than reference: likely reflection or heat source"
 """Note on warm spots of interior views."""
-
-Z95 = 1.959964
-"""Two-sided 95 % coverage factor of the normal distribution."""
 
 
 @dataclass(frozen=True)

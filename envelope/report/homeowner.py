@@ -11,6 +11,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 
 import envelope.report.facts as facts
+from envelope.constants import Z95
 from envelope.labels import class_words, element_label
 from envelope.report.figures import Figures
 from envelope.report.numbers import (
@@ -231,7 +232,7 @@ def homeowner_context(results: Mapping, figs: Figures) -> dict:
         lo = h.get("annual_kwh_low95")
         hi = h.get("annual_kwh_high95")
         if not (is_num(lo) and is_num(hi)) and is_num(h.get("annual_kwh_std")):
-            lo, hi = annual - 1.96 * h["annual_kwh_std"], annual + 1.96 * h["annual_kwh_std"]
+            lo, hi = annual - Z95 * h["annual_kwh_std"], annual + Z95 * h["annual_kwh_std"]
         heat.append(f"The walls, windows, floors and ceilings that were surveyed lose "
                     f"{plain_range(lo, annual, hi, 'kWh')} of heat a year (kilowatt-hours, the "
                     "unit on your energy bill), before your boiler's or heat pump's efficiency.")

@@ -21,14 +21,14 @@ from __future__ import annotations
 
 import math
 
+from envelope.constants import Z95
+
 __all__ = ["MINUS", "is_num", "decimals_for", "num", "pct", "interval", "ValueText",
            "u_text", "value_text", "from_std", "plain_amount", "plain_range", "plain_money",
            "money_symbol",
            "plural"]
 
 MINUS = "\u2212"
-Z95 = 1.959964
-"""Coverage factor of a 95 % interval of a normal distribution (JCGM 100:2008, G.3)."""
 
 
 def is_num(value) -> bool:
