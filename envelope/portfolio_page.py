@@ -188,11 +188,10 @@ def write_charts(table, folder: Path) -> dict[str, Path]:
 
 
 def _environment():
-    from jinja2 import Environment, PackageLoader, StrictUndefined
+    """The reports' template environment, with the table's number filters on an overlay."""
+    from .report.write import environment
 
-    env = Environment(loader=PackageLoader("envelope.report", "templates"),
-                      autoescape=True, undefined=StrictUndefined, trim_blocks=True,
-                      lstrip_blocks=True)
+    env = environment().overlay()
     env.filters["fmt"] = fmt
     env.globals["interval"] = interval
     return env
@@ -217,6 +216,7 @@ def render_page(table, ordering: str = "rank", charts: dict[str, bytes] | None =
     charts : dict, optional
         PNG bytes by chart file name; embedded as data URIs.
     """
+    from . import __version__
     from .report.homeowner import CAUTIONS
 
     if ordering not in ORDERINGS:
@@ -230,7 +230,8 @@ def render_page(table, ordering: str = "rank", charts: dict[str, bytes] | None =
     states = {s: sum(r["state"] == s for r in rows) for s in ("assessed", "up to date", "failed")}
     currencies = sorted({r["currency"] for r in ok if r.get("currency")})
     return _environment().get_template("portfolio.html").render(
-        csp=CSP, rows=_sorted(ok, column, descending), failed=failed, images=images,
+        csp=CSP, version=__version__, title=f"Portfolio of {len(rows)} houses — {heading}",
+        rows=_sorted(ok, column, descending), failed=failed, images=images,
         orderings={k: (v[0], v[3]) for k, v in ORDERINGS.items()}, current=ordering,
         heading=heading, states=states, houses=len(rows), risk_words=RISK_WORDS,
         partial=sum(1 for r in ok if (r.get("failed_views") or 0) > 0),
