@@ -1,7 +1,7 @@
 """Tests of envelope.dynamic against an independent 1-D finite-volume wall model.
 
 The reference here is a Crank-Nicolson finite-volume solution of transient conduction
-through layered walls (written in this file, not the project's forward model), whose steady
+through layered walls (`tests/conduction1d.py`, not the project's forward model), whose steady
 state is the series-resistance U of ISO 6946 (U = 1 / (Rsi + sum d/lambda + Rse)), known
 exactly. Material data are typical handbook values (CIBSE Guide A Table 3.x, from memory);
 their exact values do not matter, only that the answer is known for them.
@@ -9,61 +9,15 @@ their exact values do not matter, only that the answer is known for them.
 
 import numpy as np
 import pytest
-from scipy.linalg import lu_factor, lu_solve
 
 from envelope import dynamic, validity
 from envelope import transmittance as tr
+from tests.conduction1d import wall_fd
 
 # (thickness m, conductivity W/mK, density kg/m3, specific heat J/kgK), inside -> outside
 INSULATED = [(0.013, 0.57, 1300, 1000), (0.05, 0.035, 30, 1030), (0.2, 1.35, 2300, 880)]
 SOLID_BRICK = [(0.013, 0.57, 1300, 1000), (0.215, 0.77, 1700, 800)]
 SANDWICH = [(0.1, 0.77, 1700, 800), (0.1, 0.035, 30, 1030), (0.1, 0.77, 1700, 800)]
-R_SI, R_SE = 0.13, 0.04  # ISO 6946:2017 Table 7
-
-
-def wall_fd(layers, t_ai, t_ae, t_end_h, dt_s=120.0, cell_m=0.01):
-    """Interior surface heat flux [W/m2] of a layered wall driven by air temperatures.
-
-    Finite volumes of about ``cell_m``, Crank-Nicolson in time, film resistances R_SI, R_SE
-    to the air; starts from the steady state of the t = 0 temperatures.
-    Returns (times_h, q_w_m2, exact U).
-    """
-    dx, k, c = [], [], []
-    for d, lam, rho, cp in layers:
-        n = max(2, round(d / cell_m))
-        dx += [d / n] * n
-        k += [lam] * n
-        c += [rho * cp * d / n] * n
-    dx, k, c = map(np.array, (dx, k, c))
-    n = dx.size
-    g = 1.0 / (dx[:-1] / (2 * k[:-1]) + dx[1:] / (2 * k[1:]))
-    g_in, g_out = 1.0 / (R_SI + dx[0] / (2 * k[0])), 1.0 / (R_SE + dx[-1] / (2 * k[-1]))
-    kmat = np.zeros((n, n))
-    idx = np.arange(n - 1)
-    kmat[idx, idx] += g
-    kmat[idx + 1, idx + 1] += g
-    kmat[idx, idx + 1] -= g
-    kmat[idx + 1, idx] -= g
-    kmat[0, 0] += g_in
-    kmat[-1, -1] += g_out
-
-    def b(t):
-        v = np.zeros(n)
-        v[0], v[-1] = g_in * t_ai(t), g_out * t_ae(t)
-        return v
-
-    temp = np.linalg.solve(kmat, b(0.0))
-    lu = lu_factor(np.diag(c / dt_s) + 0.5 * kmat)
-    explicit = np.diag(c / dt_s) - 0.5 * kmat
-    steps = round(t_end_h * 3600 / dt_s)
-    times = np.arange(steps + 1) * dt_s / 3600
-    q = np.empty(steps + 1)
-    q[0] = g_in * (t_ai(0.0) - temp[0])
-    for s in range(1, steps + 1):
-        temp = lu_solve(lu, explicit @ temp + 0.5 * (b(times[s - 1]) + b(times[s])))
-        q[s] = g_in * (t_ai(times[s]) - temp[0])
-    u = 1.0 / (R_SI + sum(d / lam for d, lam, _, _ in layers) + R_SE)
-    return times, q, u
 
 
 def _t_ai(t):
@@ -80,7 +34,7 @@ def test_dynamic_method_recovers_u_where_the_average_method_drifts(layers):
     # Three days of hourly data, outdoor air falling 2 K a day with a daily swing and a
     # 37 h wave: the average method (ISO 9869-1 §7.2) is off by 5-8 %; the dynamic method
     # (Annex B) recovers the exact U within 2 % (the FD model's own error is < 0.1 %).
-    times, q, u = wall_fd(layers, _t_ai, _t_ae, 72.0)
+    times, q, _, u = wall_fd(layers, _t_ai, _t_ae, 72.0)
     th, qh = times[::30], q[::30]
     avg = tr.average_method(th, qh, _t_ai(th), _t_ae(th))
     dyn = dynamic.dynamic_method(th, qh, _t_ai(th), _t_ae(th))
@@ -107,7 +61,7 @@ def test_response_time_is_the_mean_delay_of_the_fd_step_response(layers):
     # The interior flux after a 1 K step of the outdoor air: its mean delay
     # int (1 - dq/dq_inf) dt from the FD model equals B_1 / R_tot of the first-order
     # transmission matrices (ISO 13786 form), within the FD discretisation (1 %).
-    times, q, _ = wall_fd(layers, lambda t: 20.0, lambda t: 0.0 if t <= 0 else -1.0, 200.0,
+    times, q, _, _ = wall_fd(layers, lambda t: 20.0, lambda t: 0.0 if t <= 0 else -1.0, 200.0,
                           dt_s=300.0)
     frac = (q - q[0]) / (q[-1] - q[0])
     delay = np.trapezoid(1 - frac, times)
@@ -145,7 +99,7 @@ def test_lag_correction_after_a_night_fall(layers):
     def t_ae(t):
         return 3.0 - 2.0 * min(max(t, 0.0), 4.0) / 4.0
 
-    times, q, u = wall_fd(layers, lambda t: 21.0, t_ae, 6.0, dt_s=60.0)
+    times, q, _, u = wall_fd(layers, lambda t: 21.0, t_ae, 6.0, dt_s=60.0)
     th = np.arange(0.0, 6.01, 0.5)
     te = np.array([t_ae(x) for x in th])
     tau = dynamic.response_time_h([dynamic.Layer(*lay) for lay in layers])
