@@ -3,7 +3,7 @@
 Source (values transcribed from the paper's abstract, the only part read here):
 Li, F. G. N., Smith, A. Z. P., Biddulph, P., et al. (2015) "Solid-wall U-values: heat flux
 measurements compared with standard assumptions", Building Research & Information 43(2),
-238-252, doi:10.1080/09613218.2014.967977. Heat-flux-plate measurements of 40 solid brick
+238-252 (doi:10.1080/09613218.2014.967977, from memory). Heat-flux-plate measurements of 40 solid brick
 and 18 solid stone walls in UK homes, re-analysed with a lumped thermal mass and inverse
 parameter estimation, give a mean in-situ U of **1.3 ± 0.4 W m-2 K-1** for both wall types;
 the U-value assumed for these walls in UK energy certification is **2.1 W m-2 K-1**.
