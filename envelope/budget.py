@@ -26,7 +26,30 @@ __all__ = [
     "defect_relative_uncertainty",
     "HeatLossResult",
     "heat_loss_from_draws",
+    "interval95",
+    "FLOOR_NOTE",
 ]
+
+
+def interval95(draws, floor: float = 0.0) -> tuple[float, float, bool]:
+    """Probabilistically symmetric 95 % interval of Monte Carlo draws (JCGM 101:2008 §7.7),
+    its lower end raised to a physical ``floor`` when it falls below it.
+
+    U of an element losing heat and H of a heated house cannot be negative. Raising the lower
+    end to 0 removes only values the truth cannot take, so the probability that the interval
+    holds the truth is unchanged. Returns (low, high, raised).
+
+    >>> interval95(np.linspace(-1.0, 3.0, 4001))
+    (0.0, 2.9, True)
+    """
+    lo, hi = (float(x) for x in np.quantile(np.asarray(draws, float), [0.025, 0.975]))
+    raised = lo < floor
+    return (float(floor) if raised else lo), hi, raised
+
+
+#: Note for an interval whose lower end was raised to zero.
+FLOOR_NOTE = ("the 95 % interval reached below zero, which a heat loss cannot: its lower end is "
+              "given as 0 and the survey does not resolve this value from zero")
 
 
 @dataclass(frozen=True)
@@ -49,6 +72,7 @@ class HeatLossResult:
     h_high95_w_k: float
     h_std_independent_w_k: float
     n_valid: int
+    low_raised_to_zero: bool = False
 
 
 def heat_loss_from_draws(elements: Sequence[tuple[float, np.ndarray]],
@@ -70,7 +94,8 @@ def heat_loss_from_draws(elements: Sequence[tuple[float, np.ndarray]],
     Notes
     -----
     Trials where any term is NaN are dropped jointly. ``h_std_independent_w_k`` is
-    sqrt(sum of the terms' variances): what an independent sum would claim.
+    sqrt(sum of the terms' variances): what an independent sum would claim. The interval's
+    lower end is raised to 0 when it falls below (:func:`interval95`).
     """
     terms = [float(a) * np.asarray(d, dtype=float).ravel() for a, d in (*elements, *bridges)]
     if not terms:
@@ -82,10 +107,10 @@ def heat_loss_from_draws(elements: Sequence[tuple[float, np.ndarray]],
     if ok.sum() < 2:
         raise ValueError("fewer than two trials are finite in every term")
     h = stack[:, ok].sum(axis=0)
-    lo, hi = np.quantile(h, [0.025, 0.975])
+    lo, hi, raised = interval95(h)
     indep = math.sqrt(float(np.sum(np.var(stack[:, ok], axis=1, ddof=1))))
-    return HeatLossResult(float(np.mean(h)), float(np.std(h, ddof=1)), float(lo), float(hi),
-                          indep, int(ok.sum()))
+    return HeatLossResult(float(np.mean(h)), float(np.std(h, ddof=1)), lo, hi,
+                          indep, int(ok.sum()), raised)
 
 
 # ----------------------------------------------------------------------------- advice

@@ -30,11 +30,13 @@ import numpy as np
 from envelope import convection, films, radiometry
 from envelope import transmittance as tr
 from envelope.budget import (
+    FLOOR_NOTE,
     REMEDIES,
     Advice,
     HeatLossResult,
     defect_relative_uncertainty,
     heat_loss_from_draws,
+    interval95,
     narrowing_advice,
 )
 from envelope.calibration import (
@@ -446,8 +448,10 @@ def _estimate(view, zone, series, n_draws, seed, budget, keep_draws):
     if view.flux is not None and view.flux_element in ("", zone.element):
         notes.append("heat-flux-meter spot: total surface coefficient h_tot = q / (T_ai - T_si) "
                      "replaces the convection ensemble")
-    lo, hi = np.quantile(u[ok], [0.025, 0.975])
-    elo, ehi = np.quantile(u_env[ok], [0.025, 0.975])
+    lo, hi, raised = interval95(u[ok])
+    elo, ehi, _ = interval95(u_env[ok])
+    if raised:
+        notes.append(f"U: {FLOOR_NOTE}")
     t_s, h_c = sim["t_s"][ok], sim["h_c"][ok]
     ens = zone.convection
     members = ({} if not isinstance(ens, convection.Ensemble) or view.side != "interior" else
@@ -461,9 +465,9 @@ def _estimate(view, zone, series, n_draws, seed, budget, keep_draws):
     offs = np.broadcast_to(sim["offset"], u.shape)[ok]
     return UResult(
         u_w_m2k=float(np.mean(u[ok])), u_best_w_m2k=float(nominal["u"][0]),
-        u_std_w_m2k=float(np.std(u[ok], ddof=1)), u_low95_w_m2k=float(lo),
-        u_high95_w_m2k=float(hi), u_env_w_m2k=float(np.mean(u_env[ok])),
-        u_env_low95_w_m2k=float(elo), u_env_high95_w_m2k=float(ehi),
+        u_std_w_m2k=float(np.std(u[ok], ddof=1)), u_low95_w_m2k=lo,
+        u_high95_w_m2k=hi, u_env_w_m2k=float(np.mean(u_env[ok])),
+        u_env_low95_w_m2k=elo, u_env_high95_w_m2k=ehi,
         emissivity=float(np.mean(eps_all)), emissivity_std=float(np.std(eps_all, ddof=1)),
         t_si_c=float(np.mean(t_s)), t_si_std_k=t_s_std, h_c_w_m2k=float(np.mean(h_c)),
         h_c_std_w_m2k=float(np.std(h_c, ddof=1)), h_c_members=members,

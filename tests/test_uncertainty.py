@@ -45,8 +45,8 @@ def test_reproducible_seed_dependent_and_budget():
     _, a = _scene()
     z = ZoneInputs("wall", a, EPS, 0.02)
     r1, r2, r3 = (estimate_u(_view(), z, n_draws=N, seed=s) for s in (3, 3, 4))
-    assert r1.u_low95_w_m2k == r2.u_low95_w_m2k and r1.budget == r2.budget
-    assert r1.u_low95_w_m2k != r3.u_low95_w_m2k
+    assert r1.u_high95_w_m2k == r2.u_high95_w_m2k and r1.budget == r2.budget
+    assert r1.u_high95_w_m2k != r3.u_high95_w_m2k
     assert r1.n_draws == r1.n_valid == N and not r1.calibrated
     assert sum(r1.budget.values()) == pytest.approx(1.0)
     # without a probe the camera's ±2 K dominates, and the advice says what removes it
@@ -97,7 +97,9 @@ def test_same_camera_reflector_cancels_the_offset_in_the_radiative_part():
     ind = estimate_u(_view(reflected_std_k=0.5), z, n_draws=N)
     cor = estimate_u(_view(reflected_c=T_R + 1.2, reflected_std_k=0.2, reflected_by_camera=True),
                      z, n_draws=N)
-    assert (cor.u_high95_w_m2k - cor.u_low95_w_m2k) < 0.5 * (ind.u_high95_w_m2k - ind.u_low95_w_m2k)
+    # (the independent interval reaches below zero, where its lower end is raised to 0: its
+    # standard uncertainty compares the spreads)
+    assert cor.u_std_w_m2k < 0.5 * ind.u_std_w_m2k and ind.u_low95_w_m2k == 0.0
     assert cor.u_low95_w_m2k <= 0.5 <= cor.u_high95_w_m2k
     assert ind.u_low95_w_m2k <= 0.5 <= ind.u_high95_w_m2k
 
@@ -203,6 +205,29 @@ def test_joint_heat_loss_over_shared_draws():
     np.testing.assert_array_equal(keyed_normal("air:indoor", 7, 10), keyed_normal("air:indoor", 7, 10))
     with pytest.raises(ValueError, match="same length"):
         heat_loss_from_draws([(1.0, np.ones(3)), (1.0, np.ones(4))])
+
+
+def test_interval_lower_end_raised_to_zero_where_draws_go_negative():
+    # An uncalibrated camera (±2 K) on a well-insulated wall with a 10 K air difference: the
+    # surface-air difference (about 0.6 K) is smaller than the offset, so draws of U go below
+    # zero. U and H cannot: the lower end is 0 and a note says the survey does not resolve U
+    # from zero. The 0.975 quantile and the mean are the draws' own, untouched.
+    t_ae = T_AI - 10.0
+    t_si = float(synth.surface_temperature_for_u(0.3, T_AI, t_ae, T_R, EPS, 1.8))
+    a = float(radiometry.apparent_temperature(t_si, EPS, T_R, 1.0, T_AI)) + 1.2
+    r = estimate_u(_view(t_ae_c=t_ae), ZoneInputs("wall", a, EPS, 0.02), n_draws=N, seed=5,
+                   keep_draws=True, budget=False)
+    d = r.draws[np.isfinite(r.draws)]
+    assert np.quantile(d, 0.025) < 0 and (d < 0).mean() > 0.025
+    assert r.u_low95_w_m2k == 0.0
+    assert r.u_high95_w_m2k == pytest.approx(np.quantile(d, 0.975), rel=1e-12)
+    assert r.u_w_m2k == pytest.approx(np.mean(d), rel=1e-12)
+    assert any("does not resolve" in n for n in r.notes)
+    h = heat_loss_from_draws([(10.0, r.draws)])
+    assert h.h_low95_w_k == 0.0 and h.low_raised_to_zero
+    # a resolved value keeps its plain quantiles
+    ok = heat_loss_from_draws([(10.0, np.linspace(0.2, 0.4, 1001))])
+    assert not ok.low_raised_to_zero and ok.h_low95_w_k == pytest.approx(2.05)
 
 
 def test_environmental_definition():

@@ -163,6 +163,8 @@ def energy_case(elements, defects, measures, conditions: Conditions, climate: Cl
     d_loss = defect_losses(defects, dt)
     hl = energy.heat_loss_coefficient(el_loss, d_loss)
     joint = joint_heat_loss(usable, draws or {}, d_loss, seed)
+    if joint is not None and joint.low_raised_to_zero:
+        notes.append(f"H: {budget.FLOOR_NOTE}")
     h_std = joint.h_std_w_k if joint is not None else hl.h_std_w_k
     hdd = cl.heating_degree_days_kd
     q_design = None
