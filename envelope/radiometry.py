@@ -249,13 +249,26 @@ def band_temperature(radiance, band_um=DEFAULT_BAND_UM):
     return out[()] if out.ndim == 0 else out
 
 
+def _fraction(name, given):
+    """``given`` as an array once checked to lie in (0, 1], with its least and greatest value."""
+    if isinstance(given, (float, int)) and not isinstance(given, bool):
+        value = float(given)  # a plain number: no array reductions
+        if 0.0 < value <= 1.0:
+            return np.asarray(given), value, value
+    else:
+        v = np.asarray(given)
+        if v.dtype.kind in "fiu" and v.size:
+            lo, hi = v.min(), v.max()  # NaN fails both comparisons below
+            if lo > 0 and hi <= 1:
+                return v, float(lo), float(hi)
+    raise ValueError(f"{name} must lie in (0, 1], got {given!r}")
+
+
 def _check_fractions(emissivity, transmittance):
-    eps = np.asarray(emissivity)
-    tau = np.asarray(transmittance)
-    for name, v, given in (("emissivity", eps, emissivity), ("transmittance", tau, transmittance)):
-        if v.dtype.kind not in "fiu" or not (v.size and np.min(v) > 0 and np.max(v) <= 1):
-            raise ValueError(f"{name} must lie in (0, 1], got {given!r}")
-    return eps, tau
+    """Emissivity and transmittance as arrays once checked, and the emissivity's range."""
+    eps, e_lo, e_hi = _fraction("emissivity", emissivity)
+    tau, _, _ = _fraction("transmittance", transmittance)
+    return eps, tau, (e_lo, e_hi)
 
 
 def _scalar_out(out, like):
@@ -292,7 +305,7 @@ def apparent_temperature(object_c, emissivity, reflected_c, transmittance=1.0,
     [1] W. Minkina and S. Dudzik, Infrared Thermography: Errors and Uncertainties, Wiley, 2009.
     """
     band = _check_band(band_um)
-    eps, tau = _check_fractions(emissivity, transmittance)
+    eps, tau, _ = _check_fractions(emissivity, transmittance)
     atm = reflected_c if atmosphere_c is None else atmosphere_c
     obj = np.asarray(object_c)
     if obj.size >= 2 * _CHUNK and all(np.ndim(v) == 0 for v in (tau, reflected_c, atm)):
@@ -329,7 +342,15 @@ def _object_general(apparent_c, eps, tau, reflected_c, atm, band, dtype):
 
 
 _CHUNK = 65536
+"""Block of the tabulated path; images of at least two blocks take the fast paths."""
+_BLOCK = 1 << 19
+"""Elements per block of the polynomial paths (a 640 × 480 frame is one block: numpy's
+per-call cost outweighs cache locality at these sizes)."""
 _POLY_TOL_K = 2e-5
+_SPLIT_TOL_K = 5e-6
+"""Fit tolerance of each of the two polynomials of the emissivity-map path [K]."""
+_FIT_GRID = np.linspace(-1.0, 1.0, 1001)
+_FIT_GRID.setflags(write=False)
 
 
 def _exact(key, x):
@@ -340,6 +361,34 @@ def _exact(key, x):
     return _apparent_general(x, e, tau, refl, atm, band)
 
 
+def _power_fit(values, half, tol, degrees):
+    """Chebyshev least squares of ``values`` sampled on `_FIT_GRID` (x = mid + half * grid):
+    the first of ``degrees`` within ``tol`` as power-series coefficients in (x - mid), lowest
+    first, or None."""
+    for degree in degrees:
+        coef = np.polynomial.chebyshev.chebfit(_FIT_GRID, values, degree)
+        if np.max(np.abs(np.polynomial.chebyshev.chebval(_FIT_GRID, coef) - values)) <= tol:
+            power = np.polynomial.chebyshev.cheb2poly(coef)
+            return tuple(float(c / half**k) for k, c in enumerate(power))
+    return None
+
+
+def _horner(s, coef, out):
+    """``out = sum_k coef[k] s^k`` by Horner's scheme in place (``coef`` lowest first, at least
+    two, in the dtype of ``out``); ``s`` must not share memory with ``out``."""
+    np.multiply(s, coef[-1], out=out)
+    np.add(out, coef[-2], out=out)
+    for c in coef[-3::-1]:
+        np.multiply(out, s, out=out)
+        np.add(out, c, out=out)
+    return out
+
+
+def _finite_range(x):
+    """Least and greatest non-NaN value of ``x`` (NaN when there is none), one pass each."""
+    return float(np.fmin.reduce(x, axis=None)), float(np.fmax.reduce(x, axis=None))
+
+
 @functools.lru_cache(maxsize=512)
 def _chebyshev_fit(key, lo: float, hi: float):
     """Power-series coefficients (in T - mid) of the path ``key`` over [lo, hi], or None.
@@ -348,18 +397,11 @@ def _chebyshev_fit(key, lo: float, hi: float):
     fit is paid once.
     """
     mid, half = (hi + lo) / 2.0, max((hi - lo) / 2.0, 1e-3)
-    grid = np.linspace(-1.0, 1.0, 1001)
-    exact = _exact(key, mid + half * grid)
+    exact = _exact(key, mid + half * _FIT_GRID)
     if not np.all(np.isfinite(exact)):
         return None
-    for degree in (4, 6, 8, 10, 12):
-        coef = np.polynomial.chebyshev.chebfit(grid, exact, degree)
-        if np.max(np.abs(np.polynomial.chebyshev.chebval(grid, coef) - exact)) <= _POLY_TOL_K:
-            break
-    else:
-        return None
-    power = np.polynomial.chebyshev.cheb2poly(coef)
-    return mid, tuple(float(c / half**k) for k, c in enumerate(power))
+    power = _power_fit(exact, half, _POLY_TOL_K, (4, 6, 8, 10, 12))
+    return None if power is None else (mid, power)
 
 
 def _by_polynomial(apparent, key):
@@ -370,7 +412,7 @@ def _by_polynomial(apparent, key):
     degrees 4...12, the first within 2e-5 K is evaluated by Horner's scheme in the image
     dtype. None if no degree fits (NaN in range or too wide a range).
     """
-    lo, hi = float(np.nanmin(apparent)), float(np.nanmax(apparent))
+    lo, hi = _finite_range(apparent)
     if not (math.isfinite(lo) and math.isfinite(hi)):
         return None
     fit = _chebyshev_fit(key, float(math.floor(lo)), float(math.ceil(hi)))
@@ -381,18 +423,92 @@ def _by_polynomial(apparent, key):
     coef = [dtype(c) for c in power]  # polynomial in (T - mid)
     out = np.empty(apparent.shape, dtype=dtype)
     src, dst = apparent.reshape(-1), out.reshape(-1)
-    sbuf = np.empty(_CHUNK, dtype)
+    sbuf = np.empty(min(_BLOCK, src.size), dtype)
     centre = dtype(mid)
-    for start in range(0, src.size, _CHUNK):
-        x = src[start:start + _CHUNK]
+    for start in range(0, src.size, _BLOCK):
+        x = src[start:start + _BLOCK]
         s = sbuf[:x.size]
-        y = dst[start:start + x.size]
         np.subtract(x, centre, out=s)
-        np.multiply(s, coef[-1], out=y)
-        np.add(y, coef[-2], out=y)
-        for c in coef[-3::-1]:
-            np.multiply(y, s, out=y)
-            np.add(y, c, out=y)
+        _horner(s, coef, dst[start:start + x.size])
+    return out
+
+
+@functools.lru_cache(maxsize=256)
+def _split_fit(tau, refl, atm, band, lo, hi, e_lo, e_hi):
+    """The two polynomials of the emissivity-map path (`_by_split`), or None.
+
+    For readings in [lo, hi] °C and emissivities in [e_lo, e_hi]: ``p`` gives
+    ``u = (L(T_app) - K) / tau`` [W m-2 sr-1] of ``T_app - mid``, ``q`` the object temperature
+    [°C] of ``u / eps + shift = L_obj - L_mid``. Each is the lowest degree (2...12) of a
+    Chebyshev least-squares fit on 1001 points within `_SPLIT_TOL_K` in temperature (``p``'s
+    radiance error taken through the smallest ``eps dL/dT`` of the range), and the
+    composition is checked against the per-pixel path at both ends and the middle of the
+    emissivity range. None when the range reaches radiances with no solution or no degree
+    fits. Cached per settings, whole-kelvin reading range and emissivity range.
+    """
+    l_refl = float(_fast_radiance(refl + _ZERO_C, band))
+    l_atm = float(_fast_radiance(atm + _ZERO_C, band))
+    k = tau * l_refl + (1.0 - tau) * l_atm
+    mid, half = (hi + lo) / 2.0, max((hi - lo) / 2.0, 1e-3)
+    t_app = mid + half * _FIT_GRID
+    u = (_fast_radiance(t_app + _ZERO_C, band) - k) / tau
+    ends = (u[0] / e_lo, u[0] / e_hi, u[-1] / e_lo, u[-1] / e_hi)  # u increases with T_app
+    l_lo, l_hi = min(ends) + l_refl, max(ends) + l_refl
+    if not (np.all(np.isfinite(u)) and l_lo > 0.0):
+        return None
+    l_mid, l_half = (l_hi + l_lo) / 2.0, max((l_hi - l_lo) / 2.0, 1e-9)
+    l_obj = l_mid + l_half * _FIT_GRID
+    t_obj = band_temperature(l_obj, band) - _ZERO_C
+    if not np.all(np.isfinite(t_obj)):
+        return None
+    slope = float(np.min(np.diff(l_obj) / np.diff(t_obj)))  # least dL/dT [W m-2 sr-1 K-1]
+    if not (math.isfinite(slope) and slope > 0.0):
+        return None
+    q = _power_fit(t_obj, l_half, _SPLIT_TOL_K, range(2, 13))
+    p = _power_fit(u, half, _SPLIT_TOL_K * e_lo * slope, range(2, 13))
+    if p is None or q is None:
+        return None
+    shift = l_refl - l_mid
+    u_fit = np.polynomial.polynomial.polyval(t_app - mid, p)
+    for e in sorted({e_lo, (e_lo + e_hi) / 2.0, e_hi}):
+        got = np.polynomial.polynomial.polyval(u_fit / e + shift, q)
+        exact = _object_general(t_app, e, tau, refl, atm, band, float)
+        if not np.max(np.abs(got - exact)) <= 2.0 * _SPLIT_TOL_K:
+            return None
+    return mid, p, shift, q
+
+
+def _by_split(apparent, eps, e_range, tau, refl, atm, band):
+    """Object temperatures with a per-pixel emissivity map, through the radiance [°C].
+
+    With scalar settings the inverse equation is ``L(T_obj) = u / eps + L_refl`` with
+    ``u = (L(T_app) - tau L_refl - (1 - tau) L_atm) / tau``: a function of the reading, a
+    per-pixel division, and a function of the radiance. Both functions are polynomials
+    (`_split_fit`) evaluated in place by Horner's scheme in the image dtype. None when they
+    cannot be fitted (the caller takes another path).
+    """
+    lo, hi = _finite_range(apparent)
+    if not (math.isfinite(lo) and math.isfinite(hi)):
+        return None
+    fit = _split_fit(tau, refl, atm, band, float(math.floor(lo)), float(math.ceil(hi)),
+                     *e_range)
+    if fit is None:
+        return None
+    mid, p, shift, q = fit
+    dtype = apparent.dtype.type
+    p_coef, q_coef = [dtype(c) for c in p], [dtype(c) for c in q]
+    centre, offset = dtype(mid), dtype(shift)
+    out = np.empty(apparent.shape, dtype=dtype)
+    src, e, dst = apparent.reshape(-1), eps.reshape(-1), out.reshape(-1)
+    sbuf = np.empty(min(_BLOCK, src.size), dtype)
+    for start in range(0, src.size, _BLOCK):
+        x = src[start:start + _BLOCK]
+        s, y = sbuf[:x.size], dst[start:start + x.size]
+        np.subtract(x, centre, out=s)
+        _horner(s, p_coef, y)  # u
+        np.divide(y, e[start:start + x.size], out=s)
+        np.add(s, offset, out=s)  # L_obj - L_mid
+        _horner(s, q_coef, y)
     return out
 
 
@@ -435,7 +551,8 @@ _MAX_LEVELS = 64
 
 def _smooth_fast_path(x, eps, exact_for):
     """Evaluate a per-pixel function of the reading fast, when its other inputs are scalar
-    or an emissivity map of a few distinct values (one per element: the pipeline's case).
+    or an emissivity map of a few distinct values (one per element; for an
+    object temperature, where `_by_split` cannot be fitted).
 
     ``exact_for(e)`` returns the key of the exact path for emissivity ``e``. Pixels are grouped by
     emissivity; each group goes through `_by_polynomial`, else `_by_table`. Returns None when
@@ -514,9 +631,13 @@ def object_temperature(apparent_c, emissivity, reflected_c, transmittance=1.0,
     scalar settings and large images the correction is one smooth monotone function of the
     reading: it is fitted over the image's range by a Chebyshev polynomial (degree 4-12,
     within 2e-5 K of the per-pixel path) or, failing that, tabulated every <= 0.05 K and
-    interpolated (error below 1e-5 K away from the NaN limit); an emissivity map of a few
-    distinct values (one per element) is done group by group the same way; otherwise per
-    pixel.
+    interpolated (error below 1e-5 K away from the NaN limit). An emissivity map of the
+    image's shape is done through the radiance, ``L(T_obj) = u / eps + L(T_refl)`` with
+    ``u = [W - tau L(T_refl) - (1 - tau) L(T_atm)] / tau``: ``u`` of the reading and the
+    object temperature of the radiance are two polynomials (each within 5e-6 K, the two
+    within 1e-5 K of the per-pixel path, `_split_fit`), with one division per pixel between
+    them; where that range reaches radiances with no solution, a map of a few distinct
+    values (one per element) is done group by group as for a scalar; otherwise per pixel.
 
     References
     ----------
@@ -528,7 +649,7 @@ def object_temperature(apparent_c, emissivity, reflected_c, transmittance=1.0,
     20.0
     """
     band = _check_band(band_um)
-    eps, tau = _check_fractions(emissivity, transmittance)
+    eps, tau, e_range = _check_fractions(emissivity, transmittance)
     atm = reflected_c if atmosphere_c is None else atmosphere_c
     app = np.asarray(apparent_c)
     dtype = np.float32 if app.dtype == np.float32 else np.float64
@@ -538,10 +659,16 @@ def object_temperature(apparent_c, emissivity, reflected_c, transmittance=1.0,
         return _scalar_out(out[()] if out.ndim == 0 else out, apparent_c)
     settings = (tau, reflected_c, atm)
     if app.size >= 2 * _CHUNK and all(np.ndim(v) == 0 for v in settings):
+        x = app.astype(dtype, copy=False)
+        if eps.shape == app.shape:  # a per-pixel emissivity map: the pipeline's case
+            out = _by_split(x, eps, e_range, float(tau), float(reflected_c), float(atm), band)
+            if out is not None:
+                return out
+
         def exact_for(e):
             return ("object", e, float(tau), float(reflected_c), float(atm), band)
 
-        out = _smooth_fast_path(app.astype(dtype, copy=False), eps, exact_for)
+        out = _smooth_fast_path(x, eps, exact_for)
         if out is not None:
             return out
     out = _object_general(app, eps, tau, reflected_c, atm, band, dtype)

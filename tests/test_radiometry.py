@@ -189,6 +189,51 @@ def test_emissivity_map_and_export_undo_fast_paths_match_the_exact_path():
         assert out[r, c] == pytest.approx(expected, abs=1e-3)
 
 
+def test_emissivity_map_through_the_radiance_matches_the_exact_path():
+    # The pipeline's case over a night's range of readings: the emissivity map goes through
+    # the radiance (two polynomials and a division per pixel). Reference: the per-pixel path
+    # of the same equations (float64), within 3e-5 K (our tolerance for the fast paths), for
+    # a map of a few elements and for a smooth map.
+    rng = np.random.default_rng(17)
+    img = rng.uniform(-12.0, 28.0, size=(480, 640)).astype(np.float32)
+    img[7, 9] = np.nan
+    few = np.full(img.shape, 0.93, np.float32)
+    few[:200, :300], few[300:, 400:], few[100:150, :], few[420:, :120] = 0.84, 0.95, 0.90, 0.88
+    smooth = np.linspace(0.6, 1.0, img.size, dtype=np.float32).reshape(img.shape)
+    for eps in (few, smooth):
+        e_range = (float(eps.min()), float(eps.max()))
+        assert rad._split_fit(0.97, 6.0, 1.0, (7.5, 14.0), -12.0, 28.0, *e_range) is not None
+        out = rad.object_temperature(img, eps, 6.0, 0.97, 1.0)
+        ref = rad._object_general(img.astype(float), eps.astype(float), 0.97, 6.0, 1.0,
+                                  (7.5, 14.0), float)
+        assert out.dtype == np.float32 and np.isnan(out[7, 9])
+        assert np.nanmax(np.abs(out - ref)) < 3e-5
+    # and against quad at a few pixels (independent of the module), to the inversion accuracy
+    band = (7.5, 14.0)
+    for r, c in [(5, 7), (250, 500), (470, 30)]:
+        e = float(smooth[r, c])
+        w = quad_radiance(float(img[r, c]) + 273.15, band)
+        rest = 0.97 * (1 - e) * quad_radiance(279.15, band) + 0.03 * quad_radiance(274.15, band)
+        expected = quad_temperature((w - rest) / (0.97 * e), band) - 273.15
+        assert out[r, c] == pytest.approx(expected, abs=1e-3)
+
+
+def test_emissivity_map_with_no_solution_in_range_falls_back():
+    # Low emissivities before a warm reflected scene and cold readings: part of the range has
+    # no solution, so the radiance path declines and the map is done element by element.
+    rng = np.random.default_rng(19)
+    img = rng.uniform(-40.0, 40.0, size=(400, 400)).astype(np.float32)
+    eps = np.full(img.shape, 0.6, np.float32)
+    eps[:, :150] = 0.7
+    assert rad._split_fit(1.0, 30.0, 30.0, (7.5, 14.0), -40.0, 40.0, 0.6, 0.7) is None
+    out = rad.object_temperature(img, eps, 30.0)
+    ref = rad._object_general(img.astype(float), eps.astype(float), 1.0, 30.0, 30.0,
+                              (7.5, 14.0), float)
+    assert np.isnan(out[np.isnan(ref)]).all() and np.isnan(out).any()
+    fair = ref > -60.0  # away from the NaN limit, where the tabulated path is interpolated
+    assert np.max(np.abs(out[fair] - ref[fair])) < 3e-5
+
+
 def test_impossible_radiance_is_nan():
     # A very cold reading in front of a warm reflected scene: the object term is negative.
     out = rad.object_temperature(np.array([-30.0, 15.0]), 0.6, 40.0)
