@@ -29,7 +29,8 @@ from .constants import T0_K
 from .errors import SurveyError
 
 __all__ = [
-    "Export", "DeclarationNeeded", "read_export", "load_pixels", "load_air_log", "MAX_PIXELS", "MAX_FILE_BYTES",
+    "Export", "DeclarationNeeded", "read_export", "load_pixels", "check_view_readings",
+    "load_air_log", "MAX_PIXELS", "MAX_FILE_BYTES",
     "MAX_TIFF_PAGES", "KELVIN_SUSPECT_C", "PLAUSIBLE_C", "MAX_INVALID_SHARE", "TEXT_SUFFIXES",
     "IMAGE_SUFFIXES",
 ]
@@ -48,6 +49,20 @@ PLAUSIBLE_C = (-60.0, 200.0)
 """Readings outside this range [°C] cannot be building surfaces."""
 MAX_INVALID_SHARE = 0.5
 """A thermogram with more than this share of NaN pixels is refused."""
+ABOVE_INDOOR_K = 20.0
+"""An interior view whose median reading is this far above the indoor air [K] is not read
+(°F exported as °C, a wrong scale); ours, generous: a heated room's surfaces sit below it."""
+BELOW_OUTDOOR_K = 5.0
+"""An interior view whose median reading is this far below the outdoor air [K] is not read:
+inside surfaces are warmed by the room (ours)."""
+ABOVE_OUTDOOR_K = 20.0
+"""An exterior view, without sun in the last `SUN_FREE_H`, whose median reading is this far
+above the outdoor air [K] is not read (ours: a façade at night sits within a few K of it)."""
+SUN_FREE_H = 2.0
+PROBE_MISMATCH_K = 10.0
+"""A contact probe and the image reading at its pixel this far apart [K] (or three times the
+camera's accuracy, when larger) mean a wrong unit, scale, probe pixel or probe reading: a
+camera's offset is a few kelvin (ours)."""
 TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".asc")
 IMAGE_SUFFIXES = (".tif", ".tiff", ".png", ".npy")
 _EXPORT_TABLE = "this thermogram's [thermograms.export] table"
@@ -133,6 +148,8 @@ def read_export(path, label: str | None = None, settings=None) -> Export:
         raise SurveyError(f"cannot read ({exc.strerror or type(exc).__name__})", name) from None
     if size > MAX_FILE_BYTES:
         raise SurveyError(f"file larger than {MAX_FILE_BYTES // 2**20} MB", name)
+    if size == 0:
+        raise SurveyError("the file is empty (0 bytes); copy or export the thermogram again", name)
     suffix = path.suffix.lower()
     header: dict = {}
     found: dict = {}
@@ -246,7 +263,9 @@ def _npix(page) -> int:
 def _single_channel(page) -> bool:
     shape = tuple(s for s in page.shape if s != 1)
     kind = np.dtype(page.dtype).kind if page.dtype is not None else "?"
-    return len(shape) == 2 and getattr(page, "samplesperpixel", 1) == 1 and kind in "fiu"
+    # a page of one row or one pixel counts too: it is then refused as too small
+    return (len(shape) <= 2 and len(page.shape) >= 2 and getattr(page, "samplesperpixel", 1) == 1
+            and kind in "fiu")
 
 
 def _describe(page) -> str:
@@ -310,11 +329,13 @@ def _npy(path: Path, name: str):
 # --------------------------------------------------------------------------- checks
 def _check_shape(values: np.ndarray, name: str) -> None:
     shape = np.shape(values)
-    if len([s for s in shape if s != 1]) != 2 or len(shape) < 2:
+    core = [s for s in shape if s != 1]
+    if len(shape) < 2 or len(core) > 2 or (len(core) < 2 and shape[-2] * shape[-1] != np.size(values)):
         raise SurveyError(f"expected a 2-D image of temperatures, got shape {shape}", name)
-    v = np.squeeze(values)
-    if v.shape[0] < 8 or v.shape[1] < 8:
-        raise SurveyError(f"image of {v.shape} is too small (at least 8 × 8 px)", name)
+    h, w = (core if len(core) == 2 else shape[-2:])
+    if h < 8 or w < 8:
+        raise SurveyError(f"image of {w} × {h} px is too small (at least 8 × 8 px); expected "
+                          "the camera's full image of temperatures", name)
 
 
 _SCALES = ((1.0, "K"), (0.1, "K"), (0.01, "K"), (0.001, "K"), (0.1, "C"), (0.01, "C"),
@@ -374,6 +395,83 @@ def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.nda
                           f"{PLAUSIBLE_C[1]:g} °C; check `unit`, `scale` and `offset` in "
                           f"{_EXPORT_TABLE}", name)
     return img
+
+
+def check_view_readings(readings_c, thermogram, conditions, camera, name: str) -> None:
+    """Refuse a view's readings that cannot be what the survey says they are.
+
+    Read as the survey declares, the readings must still agree with the night: a blank or
+    frozen export (every pixel the same), an interior view far warmer than the room or far
+    colder than outdoors, an exterior view far warmer than outdoors, or a contact probe far
+    from the image at its pixel all mean a wrong ``unit`` (°F read as °C), ``scale`` or
+    ``offset``, or wrong air temperatures, and would give plausible-looking but wrong numbers.
+
+    Parameters
+    ----------
+    readings_c : ndarray (H, W)
+        The readings as read by `load_pixels` [°C].
+    thermogram : Thermogram
+        The survey's entry (side, probes, export settings, hours since sun).
+    conditions : Conditions
+        Air temperatures of the night [°C] (NaN: not filled in yet, not checked).
+    camera : Camera
+        Its ``accuracy_k`` and ``offset_k`` widen the probe tolerance.
+    name : str
+        The pixel file, for messages.
+
+    Raises
+    ------
+    SurveyError
+    """
+    img = np.asarray(readings_c)
+    finite = img[np.isfinite(img)]
+    if finite.size == 0:
+        return
+    lo, hi = float(finite.min()), float(finite.max())
+    if lo == hi:
+        raise SurveyError(f"every valid pixel reads {lo:.6g} °C: not an image of a surface (a "
+                          "blank or frozen export?); export the thermogram again", name)
+    med = float(np.median(finite))
+    fix = (f"check `unit`, `scale` and `offset` in {_EXPORT_TABLE} and the air temperatures "
+           "in [conditions]")
+    t_i = getattr(conditions, "indoor_air_c", math.nan)
+    t_e = getattr(conditions, "outdoor_air_c", math.nan)
+    side = getattr(thermogram, "side", "")
+    sun_h = getattr(thermogram, "hours_since_sun", None)
+    if side == "interior" and math.isfinite(t_i) and med > t_i + ABOVE_INDOOR_K:
+        hint = ("; readings in °F? then set `unit = \"F\"`" if 32.0 <= med <= 100.0 else "")
+        raise SurveyError(f"the median reading {med:.1f} °C of this interior view is "
+                          f"{med - t_i:.0f} K above the indoor air ({t_i:g} °C): {fix}{hint}", name)
+    if side == "interior" and math.isfinite(t_e) and med < t_e - BELOW_OUTDOOR_K:
+        raise SurveyError(f"the median reading {med:.1f} °C of this interior view is "
+                          f"{t_e - med:.0f} K below the outdoor air ({t_e:g} °C): {fix}", name)
+    if (side == "exterior" and math.isfinite(t_e) and med > t_e + ABOVE_OUTDOOR_K
+            and not (sun_h is not None and sun_h < SUN_FREE_H)):
+        hint = ("; readings in °F? then set `unit = \"F\"`" if med >= 14.0 else "")
+        raise SurveyError(f"the median reading {med:.1f} °C of this exterior view is "
+                          f"{med - t_e:.0f} K above the outdoor air ({t_e:g} °C) with no sun for "
+                          f"{'an unknown time' if sun_h is None else f'{sun_h:g} h'}: {fix}{hint}",
+                          name)
+    acc = getattr(camera, "accuracy_k", 0.0) or 0.0
+    tol = max(PROBE_MISMATCH_K, 3.0 * acc) + abs(getattr(camera, "offset_k", None) or 0.0)
+    for i, probe in enumerate(getattr(thermogram, "probes", ())):
+        x, y = probe.pixel_xy
+        if not (math.isfinite(x) and math.isfinite(y) and math.isfinite(probe.surface_c)):
+            continue
+        col, row = int(math.floor(x)), int(math.floor(y))
+        if not (0 <= row < img.shape[0] and 0 <= col < img.shape[1]):
+            continue
+        patch = img[max(row - 1, 0): row + 2, max(col - 1, 0): col + 2]
+        patch = patch[np.isfinite(patch)]
+        if patch.size == 0:
+            continue
+        at = float(patch.mean())
+        if abs(at - probe.surface_c) > tol:
+            raise SurveyError(f"contact probe {i} at ({x:g}, {y:g}) px read {probe.surface_c:g} °C "
+                              f"where the image reads {at:.1f} °C, {abs(at - probe.surface_c):.0f} K "
+                              f"apart (a camera is off by a few kelvin at most): {fix}, and the "
+                              "probe's pixel_xy and surface_c", name,
+                              f"thermograms[{getattr(thermogram, 'id', '?')}].probes[{i}]")
 
 
 # --------------------------------------------------------------------------- air log

@@ -245,6 +245,26 @@ def test_text_file_of_words_refused_without_echo(tmp_path):
     assert "s3cr3tt0ken" not in msg
 
 
+@pytest.mark.parametrize("name, content, expect", [
+    ("empty.csv", b"", "the file is empty (0 bytes)"),
+    ("empty.tif", b"", "the file is empty (0 bytes)"),
+    ("blank.csv", b",,,,,,,,,,\n" * 12, "the grid holds no number: every cell is empty or 'nan'"),
+    ("na.csv", (";".join(["N/A"] + ["12.5"] * 15) + "\n").encode() * 12,
+     "line 1 holds numbers mixed with other text (such as 'N/A' or '--' for invalid pixels?)"),
+])
+def test_empty_and_invalid_only_files_refused_with_the_reason(tmp_path, name, content, expect):
+    (tmp_path / name).write_bytes(content)
+    _refused(tmp_path / name, expect)
+
+
+@pytest.mark.parametrize("shape", [(1, 1), (1, 16), (16, 1), (4, 16)])
+def test_tiny_images_refused_as_too_small(tmp_path, shape):
+    tifffile.imwrite(tmp_path / "t.tif", np.full(shape, 18.0, np.float32))
+    _refused(tmp_path / "t.tif", f"image of {shape[1]} × {shape[0]} px is too small")
+    np.save(tmp_path / "t.npy", np.full(shape, 18.0))
+    _refused(tmp_path / "t.npy", "too small")
+
+
 # ---------------------------------------------------------------- property test
 _HEADER_POOL = ["Thermal export", "Emissivity: 0.95", "Reflected temperature = 20 °C",
                 "Distance;3 m", "Relative humidity: 45 %", "Camera = unit 7", "Notes",

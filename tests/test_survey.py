@@ -109,6 +109,14 @@ BROKEN = [
      "given twice"),
     ("text-without-quotes", dict(toml=_toml('town = "Nowhere Parva"', "town = Nowhere Parva")),
      "text goes in double quotes"),
+    # readings that cannot be what the survey says they are (read as declared, they would
+    # give plausible but wrong numbers)
+    ("fahrenheit-without-header", dict(pixels=readings() * 1.8 + 32.0), 'readings in °F? then set `unit = "F"`'),
+    ("fahrenheit-declared-for-celsius", dict(toml=_toml("[thermograms.export]\n", '[thermograms.export]\nunit = "F"\n')),
+     "the median reading -7.0 °C of this interior view is 8 K below the outdoor air (1 °C)"),
+    ("frozen-export", dict(pixels=np.full((120, 160), 18.25, np.float32)), "every valid pixel reads 18.25 °C"),
+    ("probe-far-from-image", dict(toml=_toml("[thermograms.known_length]", "[[thermograms.probes]]\npixel_xy = [30.5, 30.5]\nsurface_c = 64.0\n\n[thermograms.known_length]")),
+     "thermograms[room-north].probes[0]: contact probe 0 at (30.5, 30.5) px read 64 °C where the image reads"),
     ("element-names-differ-in-case", dict(toml=_toml('name = "test-window"', 'name = "Test-Wall"')),
      "elements[1].name: element name 'Test-Wall' differs from 'test-wall' only in letter case"),
 ]
