@@ -435,3 +435,17 @@ def test_native_toml_date_and_new_keys_load(tmp_path):
     assert s.elements["test-window"].u_specified_basis == "environmental"
     assert s.airtightness.n50_per_h == 4.2 and s.airtightness.shielding == "normal"
     assert s.junctions[0].elements == ("test-wall", "test-window")
+
+
+def test_small_temperature_difference_is_assessed_and_flagged_not_a_crash(tmp_path):
+    # ΔT of 0.5 K on readings of a cold night: the surfaces sit below the stated outdoor air,
+    # so no pixel loses heat outwards; the run finishes with the night marked not valid
+    root = write_survey(tmp_path / "s", _toml("outdoor_air_c = 1.0", "outdoor_air_c = 20.5")
+                        .replace("outdoor_history_c = [1.5, 1.3, 1.2, 1.0]", ""))
+    out = tmp_path / "out"
+    res = runner.invoke(app, ["assess", str(root), "--out", str(out), "--quiet", "--draws", "200"])
+    assert res.exit_code == 0, res.output
+    results = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    assert {c["name"]: c["status"] for c in results["checks"]}["delta_t"] == "fail"
+    wall = next(e for e in results["elements"] if e["name"] == "test-wall")
+    assert wall["risk"] == "not assessed" and "not warmer than the outdoor air" in wall["risk_note"]
