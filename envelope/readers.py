@@ -475,18 +475,43 @@ def check_view_readings(readings_c, thermogram, conditions, camera, name: str) -
 
 
 # --------------------------------------------------------------------------- air log
+LOG_COLUMNS_C = {"indoor_air_c": (-30.0, 45.0), "outdoor_air_c": (-50.0, 45.0),
+                 "reflected_c": (-80.0, 200.0)}
+"""Columns of the air log in °C and their ranges (those of the survey's keys)."""
+MAX_LOG_GAP_H = 3.0
+"""A series log may not skip more than this [h] (or ten of its usual steps, when longer)
+between two rows: a date not advanced past midnight or a logger stopped overnight."""
+_LOG_COLUMNS = "time, indoor_air_c, outdoor_air_c, frame[, reflected_c]"
+
+
 def load_air_log(path, label: str | None = None):
-    """Read a series log CSV: columns ``time`` (ISO 8601), ``indoor_air_c``, ``outdoor_air_c``,
-    ``frame`` (pixel file of the thermogram taken then, relative to the log, may be empty),
-    optional ``reflected_c``. Returns a pandas DataFrame sorted by time with ``hours`` added.
+    """Read a series log CSV: columns ``time`` (ISO 8601 with a date), ``indoor_air_c``,
+    ``outdoor_air_c``, ``frame`` (pixel file of the thermogram taken then, relative to the
+    log, may be empty), optional ``reflected_c``. Returns a pandas DataFrame sorted by time
+    with ``hours`` added.
+
+    Rows are in time order (oldest first, or newest first as some loggers write them); a log
+    whose times go back and forth (a date not advanced past midnight), jump by more than
+    `MAX_LOG_GAP_H`, or hold air temperatures outside the survey's ranges (kelvin or °F by
+    mistake) is refused, naming the line.
     """
     import pandas as pd
 
     path = Path(path)
     name = label or str(path)
     try:
-        if path.stat().st_size > 64 * 1024 * 1024:
+        size = path.stat().st_size
+        if size > 64 * 1024 * 1024:
             raise SurveyError("air log larger than 64 MB", name)
+        if size == 0:
+            raise SurveyError(f"the air log is empty (0 bytes); expected CSV with columns "
+                              f"{_LOG_COLUMNS}", name)
+        with path.open("rb") as fh:
+            first = fh.readline(4096).decode("utf-8-sig", "replace")
+        if "," not in first and (";" in first or "\t" in first):
+            sep = "';'" if ";" in first else "tabs"
+            raise SurveyError(f"the header line is separated by {sep}; expected a comma-separated "
+                              f"log with decimal points (columns {_LOG_COLUMNS})", name)
         df = pd.read_csv(path, dtype={"frame": "string"}, encoding="utf-8-sig")
     except SurveyError:
         raise
@@ -497,10 +522,23 @@ def load_air_log(path, label: str | None = None):
                           "indoor_air_c, outdoor_air_c, frame", name) from None
     for col in ("time", "indoor_air_c", "outdoor_air_c"):
         if col not in df.columns:
-            raise SurveyError("missing column (expected columns: time, indoor_air_c, "
-                              "outdoor_air_c, frame[, reflected_c])", name, col)
+            raise SurveyError(f"missing column (expected columns: {_LOG_COLUMNS})", name, col)
+    if df.empty:
+        raise SurveyError("the air log has a header but no rows", name)
+    text = df["time"].astype("string").str.strip().fillna("")
+    clock = text.str.fullmatch(r"\d{1,2}:\d{2}(?::\d{2}(?:\.\d*)?)?")
+    if clock.any():
+        row = int(np.flatnonzero(clock.to_numpy())[0]) + 2
+        raise SurveyError(f"line {row}: a clock time without its date; expected an ISO 8601 "
+                          "timestamp, e.g. 2026-01-14T22:00 (a clock time alone cannot tell the "
+                          "night's hours after midnight from those before it)", name, "time")
+    no_date = ~text.str.match(r"\d{4}-\d{2}-\d{2}")
+    if no_date.any():
+        row = int(np.flatnonzero(no_date.to_numpy())[0]) + 2
+        raise SurveyError(f"line {row}: expected an ISO 8601 timestamp, year first, e.g. "
+                          "2026-01-14T22:00", name, "time")
     try:
-        df["time"] = pd.to_datetime(df["time"], format="ISO8601")
+        df["time"] = pd.to_datetime(text, format="ISO8601")
     except (ValueError, TypeError):
         raise SurveyError("expected ISO 8601 timestamps, e.g. 2026-01-14T22:00", name, "time") from None
     for col in ("indoor_air_c", "outdoor_air_c") + (("reflected_c",) if "reflected_c" in df else ()):
@@ -508,11 +546,51 @@ def load_air_log(path, label: str | None = None):
         if vals.isna().any():
             row = int(np.flatnonzero(vals.isna().to_numpy())[0]) + 2
             raise SurveyError(f"line {row}: expected a number in °C", name, col)
+        lo, hi = LOG_COLUMNS_C[col]
+        bad = ((vals < lo) | (vals > hi)).to_numpy()
+        if bad.any():
+            row = int(np.flatnonzero(bad)[0])
+            v = float(vals.iloc[row])
+            raise SurveyError(f"line {row + 2}: {v:g} is outside {lo:g}…{hi:g} °C"
+                              f"{_unit_slip(v, lo, hi)}", name, col)
         df[col] = vals.astype(float)
+    _check_log_order(df["time"], name)
     df = df.sort_values("time").reset_index(drop=True)
     if df["time"].duplicated().any():
         raise SurveyError("duplicate timestamps", name, "time")
+    step = df["time"].diff().dt.total_seconds().to_numpy()[1:] / 3600.0
+    if step.size:
+        usual = float(np.median(step))
+        limit = max(MAX_LOG_GAP_H, 10.0 * usual)
+        if step.max() > limit:
+            k = int(np.argmax(step))
+            raise SurveyError(f"the log jumps {step[k]:.3g} h between {df['time'].iloc[k]:%Y-%m-%d %H:%M} "
+                              f"and {df['time'].iloc[k + 1]:%Y-%m-%d %H:%M} (its usual step is "
+                              f"{usual * 60:.3g} min): a date not advanced past midnight, or a gap "
+                              "in the logging? A series needs one unbroken night", name, "time")
     df["hours"] = (df["time"] - df["time"].iloc[0]).dt.total_seconds() / 3600.0
     if "frame" not in df:
         df["frame"] = pd.NA
     return df
+
+
+def _unit_slip(v: float, lo: float, hi: float) -> str:
+    """A likely unit slip for a logged temperature out of range, or ""."""
+    if 200.0 <= v <= 400.0 and lo <= v - T0_K <= hi:
+        return f"; logged in kelvin? {v:g} K is {v - T0_K:.2f} °C: the columns are in °C"
+    if v > hi and lo <= (v - 32.0) * 5.0 / 9.0 <= hi:
+        return f"; logged in °F? {v:g} °F is {(v - 32.0) * 5.0 / 9.0:.1f} °C: the columns are in °C"
+    return ""
+
+
+def _check_log_order(times, name: str) -> None:
+    """Refuse a log whose times are neither all rising nor all falling, naming the line."""
+    step = times.diff().dt.total_seconds().to_numpy()[1:]
+    if (step >= 0).all() or (step <= 0).all():
+        return
+    rising = int((step > 0).sum()) >= int((step < 0).sum())
+    k = int(np.flatnonzero(step < 0 if rising else step > 0)[0])
+    raise SurveyError(f"line {k + 3}: its time {times.iloc[k + 1]:%Y-%m-%d %H:%M} goes "
+                      f"{'back' if rising else 'forward'} from line {k + 2}'s "
+                      f"({times.iloc[k]:%Y-%m-%d %H:%M}): a date not advanced past midnight? "
+                      "Rows must be in time order", name, "time")
