@@ -449,3 +449,14 @@ def test_small_temperature_difference_is_assessed_and_flagged_not_a_crash(tmp_pa
     assert {c["name"]: c["status"] for c in results["checks"]}["delta_t"] == "fail"
     wall = next(e for e in results["elements"] if e["name"] == "test-wall")
     assert wall["risk"] == "not assessed" and "not warmer than the outdoor air" in wall["risk_note"]
+
+
+@pytest.mark.parametrize("command", ["assess", "inspect"])
+def test_outline_errors_name_the_file_as_the_survey_does(tmp_path, command):
+    root = write_survey(tmp_path / "s", outlines=_bowtie())
+    args = [command, str(root)] + (["--out", str(tmp_path / "out"), "--quiet"] if command == "assess" else [])
+    res = runner.invoke(app, args)
+    assert res.exit_code == 2, res.output
+    line = next(ln for ln in res.output.splitlines() if ln.startswith("envelope: error:"))
+    assert "outlines/room-north.geojson: features[0].geometry.coordinates" in line, line
+    assert str(tmp_path) not in res.output   # no full path of the user's disk in messages
