@@ -23,8 +23,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import SurveyError
-from .readers import DeclarationNeeded, read_export
+from .errors import GeometryError, SurveyError
+from .readers import DeclarationNeeded, check_view_readings, read_export
 
 __all__ = ["Checklist", "survey_checklist"]
 
@@ -85,11 +85,18 @@ def survey_checklist(folder) -> Checklist:
         view.update(shape_px=list(img.shape), read_as=ex.dialect,
                     reading_range_c=[round(float(np.nanmin(img)), 2), round(float(np.nanmax(img)), 2)])
         _header_differs(cl, t, ex, label)
+        try:
+            check_view_readings(img, t, s.conditions, s.camera, label)
+        except SurveyError as exc:
+            cl.problems.append(str(exc))
         if t.outlines is None:
             continue
         olabel = str(t.outlines.relative_to(s.root))
         try:
             outl = geometry.read_outlines(t.outlines, img.shape, tuple(s.elements))
+        except GeometryError as exc:
+            cl.problems.append(str(GeometryError(exc.detail, olabel, exc.field)))
+            continue
         except SurveyError as exc:
             cl.problems.append(str(exc))
             continue

@@ -101,6 +101,9 @@ def read_grid(raw: bytes, name: str) -> Grid:
         raise SurveyError(f"line {line + 1}: a non-ASCII character inside the grid of numbers",
                           name)
     grid, quoted = _unquote(grid, name)
+    if not re.search(rb"\d", grid):
+        raise SurveyError("the grid holds no number: every cell is empty or 'nan' (an export "
+                          "of invalid pixels only?); export the thermogram again", name)
     delim, decimal = _dialect(grid, name)
     whole = not _has_decimals(grid, decimal)
     if whole and delim == ",":
@@ -200,8 +203,12 @@ def _split_header(raw: bytes, eol: bytes, name: str) -> tuple[bytes, int, int]:
                 continue
         return raw[: starts[i]], starts[i], i
     if not any(data(j) for j in range(min(len(lines), MAX_HEADER_LINES))):
+        mixed = next((j for j in range(min(len(lines), MAX_HEADER_LINES)) if _mostly_numbers(lines[j])), None)
+        hint = ("" if mixed is None else
+                f"; line {mixed + 1} holds numbers mixed with other text (such as 'N/A' or '--' "
+                "for invalid pixels?): an invalid pixel is an empty cell or 'nan'")
         raise SurveyError("no line of numbers found; expected a grid of temperatures (one "
-                          "image row per line)", name)
+                          f"image row per line){hint}", name)
     raise SurveyError(f"no grid of numbers within the first {MAX_HEADER_LINES} lines", name)
 
 
@@ -210,6 +217,14 @@ def _is_data_line(line: bytes) -> bool:
     if not line.strip() or line.translate(None, _DATA_CHARS):
         return False
     return all(_CELL.match(c) for c in re.split(rb"[,;\t ]", line.strip()))
+
+
+def _mostly_numbers(line: bytes) -> bool:
+    """True for a line of at least 8 cells, most of them numbers (a grid row with a few
+    cells of another kind; error path only)."""
+    cells = [c for c in re.split(rb"[,;\t ]+", line.strip()) if c]
+    good = sum(bool(_CELL.match(c)) for c in cells)
+    return len(cells) >= 8 and good >= 0.75 * len(cells)
 
 
 def _is_count_row(line: bytes) -> bool:

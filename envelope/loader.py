@@ -59,14 +59,62 @@ from .survey import (
     Tape,
     Thermogram,
 )
+from .tomltable import KEY_HOMES, _clip, _short, check_identifier, check_text
 from .tomltable import REQUIRED as _REQUIRED
 from .tomltable import Table as _Table
-from .tomltable import _clip, _short, check_identifier, check_text
 
 _SLUG = re.compile(r"[a-z0-9]+(?:-[a-z0-9]+)*\Z")
 
 __all__ = ["load", "find_survey_file", "check_identifier", "check_text", "PIXEL_SUFFIXES",
            "MAX_SURVEY_BYTES"]
+
+_KEYS = {
+    "": ("format", "version", "site", "survey", "conditions", "camera", "climate", "prices",
+         "analysis", "elements", "thermograms", "pressure_pairs", "series", "measures",
+         "airtightness", "junctions"),
+    "site": ("name", "address", "town", "latitude_deg"),
+    "survey": ("date", "surveyor", "client"),
+    "conditions": ("indoor_air_c", "outdoor_air_c", "indoor_rh", "outdoor_rh", "wind_m_s", "rain",
+                   "hours_since_rain", "sky_cloud_oktas", "air_uncertainty_k",
+                   "wind_uncertainty_m_s", "outdoor_history_c", "indoor_history_c",
+                   "history_interval_h", "time"),
+    "camera": ("label", "band_um", "accuracy_k", "relative_accuracy_k", "noise_k", "offset_k",
+               "offset_uncertainty_k"),
+    "climate": ("heating_degree_days_kd", "design_indoor_c", "design_outdoor_c",
+                "monthly_outdoor_c", "monthly_outdoor_rh", "monthly_indoor_c", "indoor_humidity",
+                "humidity_class", "indoor_rh", "moisture_kg_h", "air_changes_per_h", "volume_m3",
+                "frsi_criterion"),
+    "prices": ("currency", "energy_price_per_kwh", "heating_efficiency", "co2_kg_per_kwh"),
+    "analysis": tuple(Analysis.__dataclass_fields__),
+    "elements": tuple(Element.__dataclass_fields__),
+    "thermograms": (
+        "id", "file", "outlines", "side", "reflected_c", "reflected_uncertainty_k", "emissivity",
+        "emissivity_uncertainty", "emissivity_by_element", "distance_m", "transmittance",
+        "atmosphere_c", "view_angle_deg", "hours_since_sun", "export", "reference_points",
+        "known_length", "probes", "tapes", "reflected_by_camera", "time", "mrt_c", "mrt_std_k",
+        "heat_flux_meter", "elements"),
+    "thermograms.export": ("emissivity", "reflected_c", "transmittance", "atmosphere_c", "unit",
+                           "scale", "offset", "page"),
+    "thermograms.reference_points": ("pixel_xy", "metre_xy"),
+    "thermograms.known_length": ("pixel_a", "pixel_b", "length_m"),
+    "thermograms.probes": ("pixel_xy", "surface_c", "uncertainty_k"),
+    "thermograms.tapes": ("pixel_xy", "emissivity", "surface_pixel_xy"),
+    "thermograms.heat_flux_meter": ("pixel_xy", "q_w_m2", "q_std_w_m2", "surface_c"),
+    "pressure_pairs": ("baseline", "depressurised", "pressure_difference_pa"),
+    "series": ("id", "thermogram", "element", "air_log"),
+    "measures": ("name", "kind", "cost", "elements", "defect_classes", "thickness_m",
+                 "conductivity_w_mk", "new_u_w_m2k", "new_psi_w_mk", "leak_fraction_removed"),
+    "airtightness": ("n50_per_h", "q50_m3_h_m2", "volume_m3", "envelope_area_m2", "storeys",
+                     "shielding"),
+    "junctions": ("elements", "junction_type", "psi_specified_w_mk"),
+}
+"""The keys of every table of survey.toml (``thermograms.export`` for each
+``[thermograms.export]``)."""
+for _table, _keys in _KEYS.items():
+    for _key in _keys:
+        if _table:
+            KEY_HOMES[_key] = (*KEY_HOMES.get(_key, ()), f"[{_table}]")
+del _table, _keys, _key
 
 PIXEL_SUFFIXES = (".tif", ".tiff", ".npy", ".csv", ".txt", ".tsv", ".asc", ".png")
 """File types a thermogram's pixels may come in."""
@@ -150,16 +198,22 @@ def load(folder, incomplete: bool = False) -> Survey:
     except OSError as exc:
         raise SurveyError(f"cannot read the survey file ({exc.strerror or type(exc).__name__}); "
                           "check its permissions", fname) from None
+    if raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise SurveyError("saved as UTF-16 text; save it as UTF-8 (the editor's encoding "
+                          "setting)", fname)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
-        raise SurveyError(f"not UTF-8 text ({exc.reason} at byte {exc.start})", fname) from None
+        line = raw[: exc.start].count(b"\n") + 1
+        raise SurveyError(f"not UTF-8 text (line {line}, byte {exc.start}: {exc.reason}; saved "
+                          "as Latin-1 or Windows-1252?); save it as UTF-8", fname) from None
     if not text.strip():
         raise SurveyError("the survey file is empty; expected the keys of docs/survey-format.md", fname)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise SurveyError(f"not valid TOML: {_clip(str(exc), 120)}", fname) from None
+        raise SurveyError(f"not valid TOML: {_clip(str(exc), 120)}{_toml_hint(text, str(exc))}",
+                          fname) from None
     except RecursionError:
         raise SurveyError("not valid TOML: nested too deeply", fname) from None
     todo: list[str] = []
@@ -169,6 +223,38 @@ def load(folder, incomplete: bool = False) -> Survey:
     return survey
 
 
+_TOML_AT = re.compile(r"at line (\d+), column \d+\)")
+_DECIMAL_COMMA = re.compile(r"=\s*\[?\s*[-+]?\d+,\d")
+_BARE_TEXT = re.compile(r"=\s*(?!true\b|false\b|inf\b|nan\b)[^\W\d]")
+
+
+def _toml_hint(text: str, message: str) -> str:
+    """The usual slip behind a TOML syntax error on that line, or ""."""
+    m = _TOML_AT.search(message)
+    lines = text.splitlines()
+    if not m or not 0 < int(m.group(1)) <= len(lines):
+        return ""
+    line = lines[int(m.group(1)) - 1].split("#", 1)[0]
+    if message.startswith(("Cannot overwrite", "Cannot declare")):
+        return "; is a key or a table given twice? (each key once per table)"
+    if _DECIMAL_COMMA.search(line):
+        return "; numbers take a decimal point, not a comma (0.93, not 0,93)"
+    if _BARE_TEXT.search(line):
+        return '; text goes in double quotes (name = "Wren Cottage")'
+    return ""
+
+
+def _same_but_case(name: str, seen: dict, what: str, t: _Table, key: str) -> None:
+    """Refuse a name that differs from an earlier one in letter case only: names become
+    parts of file names, and many file systems do not tell such names apart."""
+    other = seen.get(name.casefold())
+    if other is not None and other != name:
+        raise t.err(key, f"{what} {_short(name)} differs from {_short(other)} only in letter "
+                         "case; names become parts of file names, which many file systems do "
+                         "not tell apart: choose another name")
+    seen.setdefault(name.casefold(), name)
+
+
 def _todo_message(todo: list[str]) -> str:
     shown = ", ".join(todo[:12]) + (f" and {len(todo) - 12} more" if len(todo) > 12 else "")
     return (f"{len(todo)} required key{'s' if len(todo) > 1 else ''} missing or left as "
@@ -176,11 +262,7 @@ def _todo_message(todo: list[str]) -> str:
 
 
 def _survey(data, root: Path, file: Path, fname: str, todo: list) -> Survey:
-    top = _Table(data, fname, "", (
-        "format", "version", "site", "survey", "conditions", "camera", "climate", "prices",
-        "analysis", "elements", "thermograms", "pressure_pairs", "series", "measures",
-        "airtightness", "junctions",
-    ), todo)
+    top = _Table(data, fname, "", _KEYS[""], todo)
     fmt = top.str("format")
     if fmt and fmt != FORMAT_NAME:
         raise top.err("format", f"expected '{FORMAT_NAME}', got {_short(fmt)}")
@@ -188,30 +270,20 @@ def _survey(data, root: Path, file: Path, fname: str, todo: list) -> Survey:
     if version is not None and version != FORMAT_VERSION:
         raise top.err("version", f"this envelope reads version {FORMAT_VERSION}, got {version}")
 
-    s = top.sub("site", ("name", "address", "town", "latitude_deg"))
+    s = top.sub("site", _KEYS["site"])
     site = Site(s.text("name"), s.text("address", ""), s.text("town", ""),
                 s.num("latitude_deg", None, -90, 90, "deg"))
-    sv = top.sub("survey", ("date", "surveyor", "client"), {})
-    conditions = _conditions(top.sub("conditions", (
-        "indoor_air_c", "outdoor_air_c", "indoor_rh", "outdoor_rh", "wind_m_s", "rain",
-        "hours_since_rain", "sky_cloud_oktas", "air_uncertainty_k", "wind_uncertainty_m_s",
-        "outdoor_history_c", "indoor_history_c", "history_interval_h", "time",
-    )))
-    camera = _camera(top.sub("camera", (
-        "label", "band_um", "accuracy_k", "relative_accuracy_k", "noise_k", "offset_k",
-        "offset_uncertainty_k"), {}))
-    climate = _climate(top.sub("climate", (
-        "heating_degree_days_kd", "design_indoor_c", "design_outdoor_c", "monthly_outdoor_c",
-        "monthly_outdoor_rh", "monthly_indoor_c", "indoor_humidity", "humidity_class",
-        "indoor_rh", "moisture_kg_h", "air_changes_per_h", "volume_m3", "frsi_criterion"), {}))
-    p = top.sub("prices", ("currency", "energy_price_per_kwh", "heating_efficiency",
-                           "co2_kg_per_kwh"), {})
+    sv = top.sub("survey", _KEYS["survey"], {})
+    conditions = _conditions(top.sub("conditions", _KEYS["conditions"]))
+    camera = _camera(top.sub("camera", _KEYS["camera"], {}))
+    climate = _climate(top.sub("climate", _KEYS["climate"], {}))
+    p = top.sub("prices", _KEYS["prices"], {})
     prices = Prices(
         p.text("currency", "EUR"), p.num("energy_price_per_kwh", None, 0, 100, "per kWh"),
         p.num("heating_efficiency", 0.9, 0.05, 6.0, "-", lo_open=True),
         p.num("co2_kg_per_kwh", None, 0, 5, "kg/kWh"),
     )
-    a = top.sub("analysis", tuple(Analysis.__dataclass_fields__), {})
+    a = top.sub("analysis", _KEYS["analysis"], {})
     analysis = Analysis(
         a.str("interior_convection", "ensemble", INTERIOR_CONVECTION),
         a.str("exterior_convection", "iso6946_wind", EXTERIOR_CONVECTION),
@@ -225,7 +297,7 @@ def _survey(data, root: Path, file: Path, fname: str, todo: list) -> Survey:
     thermograms = _thermograms(top, root, elements, conditions.time)
     ids = {t.id for t in thermograms}
     pairs = []
-    for t in top.array("pressure_pairs", ("baseline", "depressurised", "pressure_difference_pa")):
+    for t in top.array("pressure_pairs", _KEYS["pressure_pairs"]):
         pair = PressurePair(t.str("baseline"), t.str("depressurised"),
                             t.num("pressure_difference_pa", lo=0, hi=200, unit="Pa", lo_open=True))
         for key in ("baseline", "depressurised"):
@@ -235,36 +307,44 @@ def _survey(data, root: Path, file: Path, fname: str, todo: list) -> Survey:
             raise t.err("depressurised", "expected a different thermogram from the baseline "
                                          "(a view cannot be paired with itself)")
         pairs.append(pair)
-    series, sids = [], set()
-    for t in top.array("series", ("id", "thermogram", "element", "air_log")):
+    series, sids, folded = [], set(), {}
+    for t in top.array("series", _KEYS["series"]):
         sr = Series(t.ident("id"), t.str("thermogram"), t.str("element"),
                     _file(t, "air_log", root, (".csv",)))
         if sr.id in sids:
             raise t.err("id", f"duplicate series id {_short(sr.id)}")
         sids.add(sr.id)
+        _same_but_case(sr.id, folded, "series id", t, "id")
         if sr.thermogram and sr.thermogram not in ids:
             raise t.err("thermogram", f"no thermogram with id {_short(sr.thermogram)}")
         if sr.element and sr.element not in elements:
             raise t.err("element", f"no element named {_short(sr.element)}")
         series.append(sr)
-    measures = [_measure(t, elements) for t in top.array("measures", (
-        "name", "kind", "cost", "elements", "defect_classes", "thickness_m", "conductivity_w_mk",
-        "new_u_w_m2k", "new_psi_w_mk", "leak_fraction_removed"))]
-    air = top.sub("airtightness", ("n50_per_h", "q50_m3_h_m2", "volume_m3", "envelope_area_m2",
-                                   "storeys", "shielding"), None)
+    measures = [_measure(t, elements) for t in top.array("measures", _KEYS["measures"])]
+    air = top.sub("airtightness", _KEYS["airtightness"], None)
     return Survey(
         root=root, file=file, site=site, date=sv.date("date"), surveyor=sv.text("surveyor", ""),
         client=sv.text("client", ""), conditions=conditions, camera=camera, climate=climate,
         prices=prices, analysis=analysis, elements=elements, thermograms=tuple(thermograms),
         pressure_pairs=tuple(pairs), series=tuple(series), measures=tuple(measures),
         airtightness=None if air is None else _airtightness(air),
-        junctions=tuple(_junction(t, elements) for t in top.array(
-            "junctions", ("elements", "junction_type", "psi_specified_w_mk"))),
+        junctions=tuple(_junction(t, elements) for t in top.array("junctions", _KEYS["junctions"])),
         todo=tuple(todo),
     )
 
 
 def _conditions(c: _Table) -> Conditions:
+    cond = _read_conditions(c)
+    t_i, t_e = cond.indoor_air_c, cond.outdoor_air_c
+    if math.isfinite(t_i) and math.isfinite(t_e) and not t_i > t_e:
+        raise c.err("indoor_air_c", f"indoor air {t_i:g} °C is not warmer than outdoor air "
+                                    f"{t_e:g} °C (outdoor_air_c): the methods need heat flowing "
+                                    "outwards, a survey in the heating season; were the two "
+                                    "swapped?")
+    return cond
+
+
+def _read_conditions(c: _Table) -> Conditions:
     return Conditions(
         c.num("indoor_air_c", lo=-30, hi=45, unit="°C"), c.num("outdoor_air_c", lo=-50, hi=45, unit="°C"),
         c.fraction("indoor_rh", None), c.fraction("outdoor_rh", None),
@@ -308,14 +388,16 @@ def _fractions(c: _Table, key):
 
 
 def _elements(top: _Table, todo: list) -> dict:
-    tables = top.array("elements", tuple(Element.__dataclass_fields__))
+    tables = top.array("elements", _KEYS["elements"])
     if not tables:
         todo.append("elements (at least one [[elements]] table)")
     elements: dict[str, Element] = {}
+    folded: dict[str, str] = {}
     for i, t in enumerate(tables):
         name = t.ident("name") or f"(elements[{i}])"
         if name in elements:
             raise t.err("name", f"duplicate element name {_short(name)}")
+        _same_but_case(name, folded, "element name", t, "name")
         elements[name] = Element(
             name, t.str("kind", choices=ELEMENT_KINDS),
             t.num("u_specified_w_m2k", None, 0, 10, "W/m2K", lo_open=True), t.str("host", None),
@@ -354,34 +436,26 @@ def _emissivity(t: _Table, key, default):
     return v
 
 
-_THERMOGRAM_KEYS = (
-    "id", "file", "outlines", "side", "reflected_c", "reflected_uncertainty_k", "emissivity",
-    "emissivity_uncertainty", "emissivity_by_element", "distance_m", "transmittance",
-    "atmosphere_c", "view_angle_deg", "hours_since_sun", "export", "reference_points",
-    "known_length", "probes", "tapes", "reflected_by_camera", "time", "mrt_c", "mrt_std_k",
-    "heat_flux_meter", "elements",
-)
-
-
 def _thermograms(top: _Table, root: Path, elements: dict, default_time) -> list[Thermogram]:
-    tables = top.array("thermograms", _THERMOGRAM_KEYS)
+    tables = top.array("thermograms", _KEYS["thermograms"])
     if not tables:
         top.todo.append("thermograms (at least one [[thermograms]] table)")
-    out, seen = [], set()
+    out, seen, folded = [], set(), {}
     for i, t in enumerate(tables):
         tid = t.ident("id") or f"(thermograms[{i}])"
         if tid in seen:
             raise t.err("id", f"duplicate thermogram id {_short(tid)}")
         seen.add(tid)
+        _same_but_case(tid, folded, "thermogram id", t, "id")
         by_el = t.sub("emissivity_by_element", tuple(elements), {})
         eps_by = {k: _emissivity(by_el, k, None) for k in by_el.data}
-        rp = t.sub("reference_points", ("pixel_xy", "metre_xy"), None)
+        rp = t.sub("reference_points", _KEYS["thermograms.reference_points"], None)
         ref = None
         if rp is not None:
             ref = ReferencePoints(rp.points("pixel_xy", "px"), rp.points("metre_xy", "m"))
             if len(ref.pixel_xy) != len(ref.metre_xy):
                 raise rp.err("metre_xy", f"expected as many points as pixel_xy ({len(ref.pixel_xy)}), got {len(ref.metre_xy)}")
-        kl = t.sub("known_length", ("pixel_a", "pixel_b", "length_m"), None)
+        kl = t.sub("known_length", _KEYS["thermograms.known_length"], None)
         known = None
         if kl is not None:
             known = KnownLength(kl.point("pixel_a"), kl.point("pixel_b"),
@@ -390,10 +464,10 @@ def _thermograms(top: _Table, root: Path, elements: dict, default_time) -> list[
                 raise kl.err("pixel_b", "expected a point other than pixel_a")
         probes = tuple(Probe(p.point("pixel_xy"), p.num("surface_c", lo=-60, hi=200, unit="°C"),
                              p.num("uncertainty_k", 0.2, 0, 5, "K", lo_open=True))
-                       for p in t.array("probes", ("pixel_xy", "surface_c", "uncertainty_k")))
+                       for p in t.array("probes", _KEYS["thermograms.probes"]))
         tapes = tuple(Tape(p.point("pixel_xy"), _emissivity(p, "emissivity", _REQUIRED), p.point("surface_pixel_xy"))
-                      for p in t.array("tapes", ("pixel_xy", "emissivity", "surface_pixel_xy")))
-        hf = t.sub("heat_flux_meter", ("pixel_xy", "q_w_m2", "q_std_w_m2", "surface_c"), None)
+                      for p in t.array("tapes", _KEYS["thermograms.tapes"]))
+        hf = t.sub("heat_flux_meter", _KEYS["thermograms.heat_flux_meter"], None)
         meter = None if hf is None else HeatFluxMeter(
             hf.point("pixel_xy"), hf.num("q_w_m2", lo=-1000, hi=1000, unit="W/m2"),
             hf.num("q_std_w_m2", lo=0, hi=500, unit="W/m2", lo_open=True),
@@ -411,8 +485,7 @@ def _thermograms(top: _Table, root: Path, elements: dict, default_time) -> list[
             atmosphere_c=t.num("atmosphere_c", None, -60, 60, "°C"),
             view_angle_deg=t.num("view_angle_deg", 0.0, 0, 90, "deg"),
             hours_since_sun=t.num("hours_since_sun", None, 0, 10000, "h"),
-            export=_export(t.sub("export", ("emissivity", "reflected_c", "transmittance",
-                                            "atmosphere_c", "unit", "scale", "offset", "page"), {})),
+            export=_export(t.sub("export", _KEYS["thermograms.export"], {})),
             reference_points=ref, known_length=known, probes=probes, tapes=tapes,
             reflected_by_camera=t.bool("reflected_by_camera", False),
             time=t.hhmm("time") or default_time, mrt_c=t.num("mrt_c", None, -80, 200, "°C"),

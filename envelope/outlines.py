@@ -24,6 +24,7 @@ References
 
 from __future__ import annotations
 
+import difflib
 import json
 import math
 from collections.abc import Iterable
@@ -44,6 +45,10 @@ MAX_FILE_BYTES = 20_000_000
 """Largest outline file read [bytes]."""
 MAX_VERTICES = 200_000
 """Largest number of vertices in one outline file."""
+_FAR_PX = 1e6
+MIN_AREA_PX = 16.0
+"""Smallest outline or reference zone [px²] (4 × 4 px): a smaller one holds too few pixels
+to measure, and is usually drawn in metres or in fractions of the image by mistake."""
 
 
 @dataclass(frozen=True)
@@ -100,8 +105,12 @@ def read_outlines(path, shape_px, element_names=None) -> list[Outline]:
         raise GeometryError(f"outline file is {size} bytes, more than the limit "
                             f"{MAX_FILE_BYTES}", file=str(path))
     try:
-        with open(path, encoding="utf-8") as fh:
+        with open(path, encoding="utf-8-sig") as fh:  # a BOM, as some editors write, is fine
             text = fh.read()
+        if not text.strip():
+            raise GeometryError("the outline file is empty; expected a GeoJSON "
+                                "FeatureCollection (draw the outlines with `envelope outline`)",
+                                file=str(path))
         obj = json.loads(text)
     except OSError as exc:
         raise GeometryError(f"cannot read outline file ({exc.strerror or type(exc).__name__})",
@@ -174,7 +183,11 @@ def parse_outlines(obj, shape_px, element_names=None, source="<memory>") -> list
             raise GeometryError('missing or empty "element" name', file=source,
                                 field=f"{where}.properties.element")
         if names is not None and element not in names:
-            raise GeometryError(f"unknown element {element!r}; known: "
+            folded = {n.casefold(): n for n in names}
+            close = folded.get(element.strip().casefold()) or next(iter(
+                difflib.get_close_matches(element, sorted(names), n=1)), None)
+            hint = f" (did you mean {close!r}?)" if close else ""
+            raise GeometryError(f"unknown element {element!r}{hint}; known: "
                                 f"{', '.join(sorted(names)) or '(none)'}", file=source,
                                 field=f"{where}.properties.element")
         role = props.get("role", "element")
@@ -198,9 +211,15 @@ def parse_outlines(obj, shape_px, element_names=None, source="<memory>") -> list
         tol = FRAME_TOLERANCE_PX
         if xmin < -tol or ymin < -tol or xmax > w_px + tol or ymax > h_px + tol:
             raise GeometryError(
-                f"element {element!r}: outline reaches ({xmin:.1f}..{xmax:.1f}, "
-                f"{ymin:.1f}..{ymax:.1f}) px, outside the {w_px}x{h_px} px frame",
+                f"element {element!r}: outline reaches ({xmin:.6g}..{xmax:.6g}, "
+                f"{ymin:.6g}..{ymax:.6g}) px, outside the {w_px}x{h_px} px frame",
                 file=source, field=f"{where}.geometry.coordinates")
+        if polygon.area < MIN_AREA_PX:
+            raise GeometryError(
+                f"element {element!r}: the {role} outline covers {polygon.area:.3g} px², less "
+                f"than {MIN_AREA_PX:g}; outlines are in the thermogram's pixel coordinates (x "
+                f"to the right, y down, the image {w_px} × {h_px} px), not in metres or "
+                "fractions of the image", file=source, field=f"{where}.geometry.coordinates")
         if not frame.contains(polygon):
             polygon = _as_polygonal(polygon.intersection(frame))
         out.append(Outline(element=element, role=role, polygon=polygon, index=i))
@@ -267,6 +286,10 @@ def _ring(ring, where, element, source) -> list[tuple[float, float]]:
         x, y = float(pos[0]), float(pos[1])
         if not (math.isfinite(x) and math.isfinite(y)):
             raise GeometryError(f"element {element!r}: vertex {pos!r} is not finite",
+                                file=source, field=f"{where}[{k}]")
+        if abs(x) > _FAR_PX or abs(y) > _FAR_PX:
+            raise GeometryError(f"element {element!r}: vertex ({x:.6g}, {y:.6g}) lies far "
+                                "outside any thermogram; expected pixel coordinates",
                                 file=source, field=f"{where}[{k}]")
         pts.append((x, y))
     if len(pts) > 1 and pts[0] == pts[-1]:

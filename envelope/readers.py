@@ -29,7 +29,8 @@ from .constants import T0_K
 from .errors import SurveyError
 
 __all__ = [
-    "Export", "DeclarationNeeded", "read_export", "load_pixels", "load_air_log", "MAX_PIXELS", "MAX_FILE_BYTES",
+    "Export", "DeclarationNeeded", "read_export", "load_pixels", "check_view_readings",
+    "load_air_log", "MAX_PIXELS", "MAX_FILE_BYTES",
     "MAX_TIFF_PAGES", "KELVIN_SUSPECT_C", "PLAUSIBLE_C", "MAX_INVALID_SHARE", "TEXT_SUFFIXES",
     "IMAGE_SUFFIXES",
 ]
@@ -48,6 +49,20 @@ PLAUSIBLE_C = (-60.0, 200.0)
 """Readings outside this range [°C] cannot be building surfaces."""
 MAX_INVALID_SHARE = 0.5
 """A thermogram with more than this share of NaN pixels is refused."""
+ABOVE_INDOOR_K = 20.0
+"""An interior view whose median reading is this far above the indoor air [K] is not read
+(°F exported as °C, a wrong scale); ours, generous: a heated room's surfaces sit below it."""
+BELOW_OUTDOOR_K = 5.0
+"""An interior view whose median reading is this far below the outdoor air [K] is not read:
+inside surfaces are warmed by the room (ours)."""
+ABOVE_OUTDOOR_K = 20.0
+"""An exterior view, without sun in the last `SUN_FREE_H`, whose median reading is this far
+above the outdoor air [K] is not read (ours: a façade at night sits within a few K of it)."""
+SUN_FREE_H = 2.0
+PROBE_MISMATCH_K = 10.0
+"""A contact probe and the image reading at its pixel this far apart [K] (or three times the
+camera's accuracy, when larger) mean a wrong unit, scale, probe pixel or probe reading: a
+camera's offset is a few kelvin (ours)."""
 TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".asc")
 IMAGE_SUFFIXES = (".tif", ".tiff", ".png", ".npy")
 _EXPORT_TABLE = "this thermogram's [thermograms.export] table"
@@ -133,6 +148,8 @@ def read_export(path, label: str | None = None, settings=None) -> Export:
         raise SurveyError(f"cannot read ({exc.strerror or type(exc).__name__})", name) from None
     if size > MAX_FILE_BYTES:
         raise SurveyError(f"file larger than {MAX_FILE_BYTES // 2**20} MB", name)
+    if size == 0:
+        raise SurveyError("the file is empty (0 bytes); copy or export the thermogram again", name)
     suffix = path.suffix.lower()
     header: dict = {}
     found: dict = {}
@@ -246,7 +263,9 @@ def _npix(page) -> int:
 def _single_channel(page) -> bool:
     shape = tuple(s for s in page.shape if s != 1)
     kind = np.dtype(page.dtype).kind if page.dtype is not None else "?"
-    return len(shape) == 2 and getattr(page, "samplesperpixel", 1) == 1 and kind in "fiu"
+    # a page of one row or one pixel counts too: it is then refused as too small
+    return (len(shape) <= 2 and len(page.shape) >= 2 and getattr(page, "samplesperpixel", 1) == 1
+            and kind in "fiu")
 
 
 def _describe(page) -> str:
@@ -310,11 +329,13 @@ def _npy(path: Path, name: str):
 # --------------------------------------------------------------------------- checks
 def _check_shape(values: np.ndarray, name: str) -> None:
     shape = np.shape(values)
-    if len([s for s in shape if s != 1]) != 2 or len(shape) < 2:
+    core = [s for s in shape if s != 1]
+    if len(shape) < 2 or len(core) > 2 or (len(core) < 2 and shape[-2] * shape[-1] != np.size(values)):
         raise SurveyError(f"expected a 2-D image of temperatures, got shape {shape}", name)
-    v = np.squeeze(values)
-    if v.shape[0] < 8 or v.shape[1] < 8:
-        raise SurveyError(f"image of {v.shape} is too small (at least 8 × 8 px)", name)
+    h, w = (core if len(core) == 2 else shape[-2:])
+    if h < 8 or w < 8:
+        raise SurveyError(f"image of {w} × {h} px is too small (at least 8 × 8 px); expected "
+                          "the camera's full image of temperatures", name)
 
 
 _SCALES = ((1.0, "K"), (0.1, "K"), (0.01, "K"), (0.001, "K"), (0.1, "C"), (0.01, "C"),
@@ -376,19 +397,121 @@ def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.nda
     return img
 
 
+def check_view_readings(readings_c, thermogram, conditions, camera, name: str) -> None:
+    """Refuse a view's readings that cannot be what the survey says they are.
+
+    Read as the survey declares, the readings must still agree with the night: a blank or
+    frozen export (every pixel the same), an interior view far warmer than the room or far
+    colder than outdoors, an exterior view far warmer than outdoors, or a contact probe far
+    from the image at its pixel all mean a wrong ``unit`` (°F read as °C), ``scale`` or
+    ``offset``, or wrong air temperatures, and would give plausible-looking but wrong numbers.
+
+    Parameters
+    ----------
+    readings_c : ndarray (H, W)
+        The readings as read by `load_pixels` [°C].
+    thermogram : Thermogram
+        The survey's entry (side, probes, export settings, hours since sun).
+    conditions : Conditions
+        Air temperatures of the night [°C] (NaN: not filled in yet, not checked).
+    camera : Camera
+        Its ``accuracy_k`` and ``offset_k`` widen the probe tolerance.
+    name : str
+        The pixel file, for messages.
+
+    Raises
+    ------
+    SurveyError
+    """
+    img = np.asarray(readings_c)
+    finite = img[np.isfinite(img)]
+    if finite.size == 0:
+        return
+    lo, hi = float(finite.min()), float(finite.max())
+    if lo == hi:
+        raise SurveyError(f"every valid pixel reads {lo:.6g} °C: not an image of a surface (a "
+                          "blank or frozen export?); export the thermogram again", name)
+    med = float(np.median(finite))
+    fix = (f"check `unit`, `scale` and `offset` in {_EXPORT_TABLE} and the air temperatures "
+           "in [conditions]")
+    t_i = getattr(conditions, "indoor_air_c", math.nan)
+    t_e = getattr(conditions, "outdoor_air_c", math.nan)
+    side = getattr(thermogram, "side", "")
+    sun_h = getattr(thermogram, "hours_since_sun", None)
+    if side == "interior" and math.isfinite(t_i) and med > t_i + ABOVE_INDOOR_K:
+        hint = ("; readings in °F? then set `unit = \"F\"`" if 32.0 <= med <= 100.0 else "")
+        raise SurveyError(f"the median reading {med:.1f} °C of this interior view is "
+                          f"{med - t_i:.0f} K above the indoor air ({t_i:g} °C): {fix}{hint}", name)
+    if side == "interior" and math.isfinite(t_e) and med < t_e - BELOW_OUTDOOR_K:
+        raise SurveyError(f"the median reading {med:.1f} °C of this interior view is "
+                          f"{t_e - med:.0f} K below the outdoor air ({t_e:g} °C): {fix}", name)
+    if (side == "exterior" and math.isfinite(t_e) and med > t_e + ABOVE_OUTDOOR_K
+            and not (sun_h is not None and sun_h < SUN_FREE_H)):
+        hint = ("; readings in °F? then set `unit = \"F\"`" if med >= 14.0 else "")
+        raise SurveyError(f"the median reading {med:.1f} °C of this exterior view is "
+                          f"{med - t_e:.0f} K above the outdoor air ({t_e:g} °C) with no sun for "
+                          f"{'an unknown time' if sun_h is None else f'{sun_h:g} h'}: {fix}{hint}",
+                          name)
+    acc = getattr(camera, "accuracy_k", 0.0) or 0.0
+    tol = max(PROBE_MISMATCH_K, 3.0 * acc) + abs(getattr(camera, "offset_k", None) or 0.0)
+    for i, probe in enumerate(getattr(thermogram, "probes", ())):
+        x, y = probe.pixel_xy
+        if not (math.isfinite(x) and math.isfinite(y) and math.isfinite(probe.surface_c)):
+            continue
+        col, row = int(math.floor(x)), int(math.floor(y))
+        if not (0 <= row < img.shape[0] and 0 <= col < img.shape[1]):
+            continue
+        patch = img[max(row - 1, 0): row + 2, max(col - 1, 0): col + 2]
+        patch = patch[np.isfinite(patch)]
+        if patch.size == 0:
+            continue
+        at = float(patch.mean())
+        if abs(at - probe.surface_c) > tol:
+            raise SurveyError(f"contact probe {i} at ({x:g}, {y:g}) px read {probe.surface_c:g} °C "
+                              f"where the image reads {at:.1f} °C, {abs(at - probe.surface_c):.0f} K "
+                              f"apart (a camera is off by a few kelvin at most): {fix}, and the "
+                              "probe's pixel_xy and surface_c", name,
+                              f"thermograms[{getattr(thermogram, 'id', '?')}].probes[{i}]")
+
+
 # --------------------------------------------------------------------------- air log
+LOG_COLUMNS_C = {"indoor_air_c": (-30.0, 45.0), "outdoor_air_c": (-50.0, 45.0),
+                 "reflected_c": (-80.0, 200.0)}
+"""Columns of the air log in °C and their ranges (those of the survey's keys)."""
+MAX_LOG_GAP_H = 3.0
+"""A series log may not skip more than this [h] (or ten of its usual steps, when longer)
+between two rows: a date not advanced past midnight or a logger stopped overnight."""
+_LOG_COLUMNS = "time, indoor_air_c, outdoor_air_c, frame[, reflected_c]"
+
+
 def load_air_log(path, label: str | None = None):
-    """Read a series log CSV: columns ``time`` (ISO 8601), ``indoor_air_c``, ``outdoor_air_c``,
-    ``frame`` (pixel file of the thermogram taken then, relative to the log, may be empty),
-    optional ``reflected_c``. Returns a pandas DataFrame sorted by time with ``hours`` added.
+    """Read a series log CSV: columns ``time`` (ISO 8601 with a date), ``indoor_air_c``,
+    ``outdoor_air_c``, ``frame`` (pixel file of the thermogram taken then, relative to the
+    log, may be empty), optional ``reflected_c``. Returns a pandas DataFrame sorted by time
+    with ``hours`` added.
+
+    Rows are in time order (oldest first, or newest first as some loggers write them); a log
+    whose times go back and forth (a date not advanced past midnight), jump by more than
+    `MAX_LOG_GAP_H`, or hold air temperatures outside the survey's ranges (kelvin or °F by
+    mistake) is refused, naming the line.
     """
     import pandas as pd
 
     path = Path(path)
     name = label or str(path)
     try:
-        if path.stat().st_size > 64 * 1024 * 1024:
+        size = path.stat().st_size
+        if size > 64 * 1024 * 1024:
             raise SurveyError("air log larger than 64 MB", name)
+        if size == 0:
+            raise SurveyError(f"the air log is empty (0 bytes); expected CSV with columns "
+                              f"{_LOG_COLUMNS}", name)
+        with path.open("rb") as fh:
+            first = fh.readline(4096).decode("utf-8-sig", "replace")
+        if "," not in first and (";" in first or "\t" in first):
+            sep = "';'" if ";" in first else "tabs"
+            raise SurveyError(f"the header line is separated by {sep}; expected a comma-separated "
+                              f"log with decimal points (columns {_LOG_COLUMNS})", name)
         df = pd.read_csv(path, dtype={"frame": "string"}, encoding="utf-8-sig")
     except SurveyError:
         raise
@@ -399,10 +522,23 @@ def load_air_log(path, label: str | None = None):
                           "indoor_air_c, outdoor_air_c, frame", name) from None
     for col in ("time", "indoor_air_c", "outdoor_air_c"):
         if col not in df.columns:
-            raise SurveyError("missing column (expected columns: time, indoor_air_c, "
-                              "outdoor_air_c, frame[, reflected_c])", name, col)
+            raise SurveyError(f"missing column (expected columns: {_LOG_COLUMNS})", name, col)
+    if df.empty:
+        raise SurveyError("the air log has a header but no rows", name)
+    text = df["time"].astype("string").str.strip().fillna("")
+    clock = text.str.fullmatch(r"\d{1,2}:\d{2}(?::\d{2}(?:\.\d*)?)?")
+    if clock.any():
+        row = int(np.flatnonzero(clock.to_numpy())[0]) + 2
+        raise SurveyError(f"line {row}: a clock time without its date; expected an ISO 8601 "
+                          "timestamp, e.g. 2026-01-14T22:00 (a clock time alone cannot tell the "
+                          "night's hours after midnight from those before it)", name, "time")
+    no_date = ~text.str.match(r"\d{4}-\d{2}-\d{2}")
+    if no_date.any():
+        row = int(np.flatnonzero(no_date.to_numpy())[0]) + 2
+        raise SurveyError(f"line {row}: expected an ISO 8601 timestamp, year first, e.g. "
+                          "2026-01-14T22:00", name, "time")
     try:
-        df["time"] = pd.to_datetime(df["time"], format="ISO8601")
+        df["time"] = pd.to_datetime(text, format="ISO8601")
     except (ValueError, TypeError):
         raise SurveyError("expected ISO 8601 timestamps, e.g. 2026-01-14T22:00", name, "time") from None
     for col in ("indoor_air_c", "outdoor_air_c") + (("reflected_c",) if "reflected_c" in df else ()):
@@ -410,11 +546,51 @@ def load_air_log(path, label: str | None = None):
         if vals.isna().any():
             row = int(np.flatnonzero(vals.isna().to_numpy())[0]) + 2
             raise SurveyError(f"line {row}: expected a number in °C", name, col)
+        lo, hi = LOG_COLUMNS_C[col]
+        bad = ((vals < lo) | (vals > hi)).to_numpy()
+        if bad.any():
+            row = int(np.flatnonzero(bad)[0])
+            v = float(vals.iloc[row])
+            raise SurveyError(f"line {row + 2}: {v:g} is outside {lo:g}…{hi:g} °C"
+                              f"{_unit_slip(v, lo, hi)}", name, col)
         df[col] = vals.astype(float)
+    _check_log_order(df["time"], name)
     df = df.sort_values("time").reset_index(drop=True)
     if df["time"].duplicated().any():
         raise SurveyError("duplicate timestamps", name, "time")
+    step = df["time"].diff().dt.total_seconds().to_numpy()[1:] / 3600.0
+    if step.size:
+        usual = float(np.median(step))
+        limit = max(MAX_LOG_GAP_H, 10.0 * usual)
+        if step.max() > limit:
+            k = int(np.argmax(step))
+            raise SurveyError(f"the log jumps {step[k]:.3g} h between {df['time'].iloc[k]:%Y-%m-%d %H:%M} "
+                              f"and {df['time'].iloc[k + 1]:%Y-%m-%d %H:%M} (its usual step is "
+                              f"{usual * 60:.3g} min): a date not advanced past midnight, or a gap "
+                              "in the logging? A series needs one unbroken night", name, "time")
     df["hours"] = (df["time"] - df["time"].iloc[0]).dt.total_seconds() / 3600.0
     if "frame" not in df:
         df["frame"] = pd.NA
     return df
+
+
+def _unit_slip(v: float, lo: float, hi: float) -> str:
+    """A likely unit slip for a logged temperature out of range, or ""."""
+    if 200.0 <= v <= 400.0 and lo <= v - T0_K <= hi:
+        return f"; logged in kelvin? {v:g} K is {v - T0_K:.2f} °C: the columns are in °C"
+    if v > hi and lo <= (v - 32.0) * 5.0 / 9.0 <= hi:
+        return f"; logged in °F? {v:g} °F is {(v - 32.0) * 5.0 / 9.0:.1f} °C: the columns are in °C"
+    return ""
+
+
+def _check_log_order(times, name: str) -> None:
+    """Refuse a log whose times are neither all rising nor all falling, naming the line."""
+    step = times.diff().dt.total_seconds().to_numpy()[1:]
+    if (step >= 0).all() or (step <= 0).all():
+        return
+    rising = int((step > 0).sum()) >= int((step < 0).sum())
+    k = int(np.flatnonzero(step < 0 if rising else step > 0)[0])
+    raise SurveyError(f"line {k + 3}: its time {times.iloc[k + 1]:%Y-%m-%d %H:%M} goes "
+                      f"{'back' if rising else 'forward'} from line {k + 2}'s "
+                      f"({times.iloc[k]:%Y-%m-%d %H:%M}): a date not advanced past midnight? "
+                      "Rows must be in time order", name, "time")

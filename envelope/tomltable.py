@@ -24,6 +24,10 @@ _REQUIRED = object()
 _ID = re.compile(r"[A-Za-z0-9_-][A-Za-z0-9._-]*\Z")
 _HHMM = re.compile(r"([01]?\d|2[0-3]):([0-5]\d)\Z")
 _BIDI = set("\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069\u2028\u2029")
+_NUMBER_TEXT = re.compile(r"\s*([-+]?(?:\d+(?:[.,]\d*)?|[.,]\d+))\s*(.*?)\s*\Z")
+KEY_HOMES: dict[str, tuple[str, ...]] = {}
+"""Key → the tables it belongs in (``[conditions]``...), filled by `envelope.loader`: an
+unknown key that is valid elsewhere names its table."""
 
 
 def check_identifier(value: str) -> str | None:
@@ -70,7 +74,9 @@ class Table:
         for key in data:
             if key not in allowed:
                 close = difflib.get_close_matches(key, allowed, n=1)
-                hint = f" (did you mean '{close[0]}'?)" if close else ""
+                homes = [h for h in KEY_HOMES.get(key, ()) if h != f"[{_generic(path)}]"]
+                hint = (f" (did you mean '{close[0]}'?)" if close else
+                        f" here (it belongs in {' or '.join(homes)})" if homes else "")
                 raise SurveyError(f"unknown key{hint}; allowed: {', '.join(allowed)}", file,
                                   self._f(_clip(key)))
 
@@ -102,20 +108,22 @@ class Table:
         if not given:
             return math.nan if default is _REQUIRED or self.pending(key) else v
         if isinstance(v, bool) or not isinstance(v, int | float):
-            raise self.err(key, f"expected a number{_u(unit)}, got {_short(v)}")
+            raise self.err(key, f"expected a number{_u(unit)}, got {_short(v)}"
+                                f"{_text_hint(v, unit, hi)}")
         v = float(v)
         if not math.isfinite(v):
             raise self.err(key, f"expected a finite number{_u(unit)}, got {v}")
         if v < lo or v > hi or (lo_open and v == lo):
             rng = f"({lo:g}, {hi:g}]" if lo_open else f"[{lo:g}, {hi:g}]"
-            raise self.err(key, f"expected a value in {rng}{_u(unit)}, got {v:g}")
+            raise self.err(key, f"expected a value in {rng}{_u(unit)}, got {v:g}"
+                                f"{_range_hint(v, lo, hi, unit)}")
         return v
 
     def fraction(self, key, default=_REQUIRED):
         v = self.data.get(key)
         if isinstance(v, int | float) and not isinstance(v, bool) and 1.0 < v <= 100.0:
             raise self.err(key, f"expected a fraction 0–1, got {v:g} — was it given in percent?")
-        return self.num(key, default, 0.0, 1.0)
+        return self.num(key, default, 0.0, 1.0, "-")
 
     def int(self, key, default=_REQUIRED, lo=-(2**62), hi=2**62):
         v, given = self._get(key, default)
@@ -189,9 +197,11 @@ class Table:
         out = []
         for i, x in enumerate(v):
             if isinstance(x, bool) or not isinstance(x, int | float) or not math.isfinite(x):
-                raise self.err(f"{key}[{i}]", f"expected a finite number{_u(unit)}, got {_short(x)}")
+                raise self.err(f"{key}[{i}]", f"expected a finite number{_u(unit)}, got {_short(x)}"
+                                              f"{_text_hint(x, unit, hi)}")
             if x < lo or x > hi:
-                raise self.err(f"{key}[{i}]", f"expected a value in [{lo:g}, {hi:g}]{_u(unit)}, got {x:g}")
+                raise self.err(f"{key}[{i}]", f"expected a value in [{lo:g}, {hi:g}]{_u(unit)}, "
+                                              f"got {x:g}{_range_hint(x, lo, hi, unit)}")
             out.append(float(x))
         return tuple(out)
 
@@ -237,6 +247,56 @@ class Table:
             raise self.err(key, "expected an array of tables ([[...]])")
         return [Table(x, self.file, f"{self._f(key)}[{i}]", allowed, self.todo)
                 for i, x in enumerate(v)]
+
+
+def _generic(path: str) -> str:
+    """``thermograms[2].export`` → ``thermograms.export`` (the table's name in messages)."""
+    return re.sub(r"\[\d+\]", "", path)
+
+
+_TEMPERATURE_UNITS = {"c": "°C", "°c": "°C", "degc": "°C", "k": "K", "f": "°F", "°f": "°F",
+                      "degf": "°F"}
+
+
+def _text_hint(v, unit: str, hi: float) -> str:
+    """How to write a number given as text (``"21 C"``, ``"0,93"``, ``"55%"``), or ""."""
+    if not isinstance(v, str):
+        return ""
+    m = _NUMBER_TEXT.match(v)
+    if not m:
+        return ""
+    digits, suffix = m.group(1).replace(",", "."), m.group(2)
+    try:
+        x = float(digits)
+    except ValueError:
+        return ""
+    u = unit.strip()
+    if suffix == "%":
+        if hi <= 1.0:
+            return f"; write the fraction without quotes or %: {x / 100:g}"
+        return f"; write the number alone, without quotes or %{_u(unit)}"
+    if suffix:
+        given = _TEMPERATURE_UNITS.get(suffix.lower().replace(" ", ""))
+        if u == "°C" and given in ("K", "°F"):
+            return (f"; write the number alone, without quotes or unit, in °C (the unit in the "
+                    f"key's name), not in {given}")
+        return f"; write the number alone, without quotes or unit: {digits}{_u(unit)}"
+    return f"; write the number without quotes{' and with a decimal point' if ',' in m.group(1) else ''}: {digits}"
+
+
+def _range_hint(v: float, lo: float, hi: float, unit: str) -> str:
+    """A likely slip for a number out of range: kelvin or °F for °C, percent for a fraction."""
+    u = unit.strip()
+    if u == "°C" and v > hi:
+        c = v - 273.15
+        if 200.0 <= v <= 400.0 and lo <= c <= hi:
+            return f" — was it given in kelvin? {v:g} K is {c:.2f} °C"
+        c = (v - 32.0) * 5.0 / 9.0
+        if lo <= c <= hi:
+            return f" — was it given in °F? {v:g} °F is {c:.1f} °C"
+    if u == "-" and max(hi, 5.0) <= v <= 100.0 and lo <= v / 100.0 <= hi:
+        return f" — was it given in percent? write {v / 100.0:g}"
+    return ""
 
 
 def _u(unit: str) -> str:

@@ -18,8 +18,9 @@ from typing import Protocol
 
 import numpy as np
 
-from envelope.errors import SurveyError
+from envelope.errors import GeometryError, SurveyError
 from envelope.outlines import Outline, parse_outlines, read_outlines
+from envelope.readers import check_view_readings
 from envelope.survey import Series, Survey, Thermogram, load_air_log, load_pixels
 
 __all__ = ["ViewData", "SeriesData", "ViewSource", "SurveyFolder", "InMemory"]
@@ -109,8 +110,14 @@ class SurveyFolder:
     def open_view(self, thermogram: Thermogram) -> ViewData:
         label = _rel(thermogram.file, self.root)
         readings = load_pixels(thermogram.file, label, thermogram.export)
+        check_view_readings(readings, thermogram, self.survey.conditions, self.survey.camera,
+                            label)
         olabel = _rel(thermogram.outlines, self.root)
-        outlines = read_outlines(thermogram.outlines, readings.shape, tuple(self.survey.elements))
+        try:
+            outlines = read_outlines(thermogram.outlines, readings.shape,
+                                     tuple(self.survey.elements))
+        except GeometryError as exc:  # name the file as the survey does, not by its full path
+            raise GeometryError(exc.detail, olabel, exc.field) from None
         return ViewData(thermogram, readings, tuple(outlines), label, olabel)
 
     def open_series(self, series: Series) -> SeriesData:

@@ -393,3 +393,29 @@ def test_draws_cap_matches_the_survey_key(tmp_path, draws, ok):
     else:
         with pytest.raises(SurveyError, match="monte_carlo_draws"):
             load_survey(root)
+
+
+# --------------------------------------------------------------------------------------
+# the command as a process
+# --------------------------------------------------------------------------------------
+
+
+def test_python_dash_m_runs_the_command_line(tmp_path):
+    """``python -m envelope`` is the command line: real exit codes, one line, no traceback."""
+    import subprocess
+    import sys
+
+    env = {k: v for k, v in os.environ.items() if k != "ENVELOPE_DEBUG"}
+    env["PYTHONPATH"] = os.pathsep.join([str(Path(__file__).resolve().parents[1]),
+                                         env.get("PYTHONPATH", "")])
+    ok = subprocess.run([sys.executable, "-m", "envelope", "--version"], capture_output=True,
+                        text=True, env=env, cwd=tmp_path)
+    assert ok.returncode == 0 and ok.stdout.startswith("envelope "), ok.stderr
+    bad = subprocess.run([sys.executable, "-m", "envelope", "assess", str(tmp_path / "none"),
+                          "--out", str(tmp_path / "out")], capture_output=True, text=True,
+                         env=env, cwd=tmp_path)
+    assert bad.returncode == 2
+    assert bad.stderr.splitlines() == [
+        f"envelope: error: {tmp_path / 'none'}: survey folder does not exist; start one with "
+        "`envelope init SURVEY --from EXPORTS`"]
+    assert names(tmp_path) == []

@@ -300,6 +300,13 @@ BAD_OUTLINES = [
     ("infinite vertex", collection(feature("w", [[[0, 0], [1e400, 1], [5, 5]]])),
      "features[0].geometry.coordinates[0][1]"),
     ("not a collection", {"type": "Feature"}, "type"),
+    ("outline in metres", collection(feature("w", rect(0, 0, 4.2, 2.4))),
+     "features[0].geometry.coordinates"),
+    ("reference zone of one pixel", collection(feature("w", rect(0, 0, 50, 50)),
+                                               feature("w", rect(10, 10, 11, 11), role="reference")),
+     "features[1].geometry.coordinates"),
+    ("vertex far outside", collection(feature("w", [[[0, 0], [1e300, 1], [5, 5]]])),
+     "features[0].geometry.coordinates[0][1]"),
 ]
 
 
@@ -309,6 +316,28 @@ def test_bad_outlines_name_the_feature(case, obj, field):
     assert err.file == "house.geojson"
     if field.startswith("features[0].geometry"):
         assert "'w'" in str(err)  # the element is named
+
+
+def test_outline_in_fractions_of_the_image_says_pixels():
+    obj = collection(feature("w", rect(0.1, 0.1, 0.9, 0.9)))
+    err = _raises("features[0].geometry.coordinates", parse_outlines, obj, SHAPE, ["w"])
+    assert "covers 0.64 px², less than 16; outlines are in the thermogram's pixel coordinates" in str(err)
+
+
+def test_outline_names_differing_in_case_or_spaces_suggest_the_element():
+    for wrong in ("W-North", "w-north "):
+        obj = collection(feature(wrong, rect(0, 0, 50, 50)))
+        err = _raises("features[0].properties.element", parse_outlines, obj, SHAPE, ["w-north"])
+        assert "(did you mean 'w-north'?)" in str(err)
+
+
+def test_outline_file_with_bom_reads_and_an_empty_one_is_named(tmp_path):
+    obj = collection(feature("w", rect(0, 0, 50, 50)))
+    (tmp_path / "bom.geojson").write_bytes(b"\xef\xbb\xbf" + json.dumps(obj).encode())
+    assert [o.element for o in read_outlines(tmp_path / "bom.geojson", SHAPE, ["w"])] == ["w"]
+    (tmp_path / "empty.geojson").write_text("\n")
+    with pytest.raises(GeometryError, match="the outline file is empty"):
+        read_outlines(tmp_path / "empty.geojson", SHAPE, ["w"])
 
 
 def test_window_not_inside_any_wall():

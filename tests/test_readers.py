@@ -245,6 +245,26 @@ def test_text_file_of_words_refused_without_echo(tmp_path):
     assert "s3cr3tt0ken" not in msg
 
 
+@pytest.mark.parametrize("name, content, expect", [
+    ("empty.csv", b"", "the file is empty (0 bytes)"),
+    ("empty.tif", b"", "the file is empty (0 bytes)"),
+    ("blank.csv", b",,,,,,,,,,\n" * 12, "the grid holds no number: every cell is empty or 'nan'"),
+    ("na.csv", (";".join(["N/A"] + ["12.5"] * 15) + "\n").encode() * 12,
+     "line 1 holds numbers mixed with other text (such as 'N/A' or '--' for invalid pixels?)"),
+])
+def test_empty_and_invalid_only_files_refused_with_the_reason(tmp_path, name, content, expect):
+    (tmp_path / name).write_bytes(content)
+    _refused(tmp_path / name, expect)
+
+
+@pytest.mark.parametrize("shape", [(1, 1), (1, 16), (16, 1), (4, 16)])
+def test_tiny_images_refused_as_too_small(tmp_path, shape):
+    tifffile.imwrite(tmp_path / "t.tif", np.full(shape, 18.0, np.float32))
+    _refused(tmp_path / "t.tif", f"image of {shape[1]} × {shape[0]} px is too small")
+    np.save(tmp_path / "t.npy", np.full(shape, 18.0))
+    _refused(tmp_path / "t.npy", "too small")
+
+
 # ---------------------------------------------------------------- property test
 _HEADER_POOL = ["Thermal export", "Emissivity: 0.95", "Reflected temperature = 20 °C",
                 "Distance;3 m", "Relative humidity: 45 %", "Camera = unit 7", "Notes",
@@ -285,3 +305,49 @@ def test_random_dialects_exact_array_or_clear_error(tmp_path_factory, d, shape, 
         return
     assert not ambiguous, d                             # never read the ambiguous case
     same(got, expected(v, d))
+
+
+# ---------------------------------------------------------------- the series air log
+def _log(rows, header="time,indoor_air_c,outdoor_air_c,frame"):
+    return header + "\n" + "\n".join(rows) + "\n"
+
+
+_NIGHT = [f"2026-01-{14 + (h >= 24):02d}T{h % 24:02d}:{m:02d},21.0,{2.0 - h / 24:.2f},"
+          for h in range(22, 27) for m in (0, 30)]   # 22:00 … 02:30, across midnight
+
+
+@pytest.mark.parametrize("case, text, field, expect", [
+    ("empty", "", None, "the air log is empty (0 bytes)"),
+    ("header-only", _log([]), None, "the air log has a header but no rows"),
+    ("semicolons", _log([r.replace(",", ";") for r in _NIGHT]).replace(",", ";"), None,
+     "the header line is separated by ';'; expected a comma-separated log"),
+    ("clock-times", _log([r[11:] for r in _NIGHT]), "time", "line 2: a clock time without its date"),
+    ("day-first", _log(["14/01/2026 22:00,21.0,2.0,"] + _NIGHT[1:]), "time",
+     "line 2: expected an ISO 8601 timestamp, year first"),
+    ("date-not-advanced", _log([r.replace("2026-01-15", "2026-01-14") for r in _NIGHT]), "time",
+     "line 6: its time 2026-01-14 00:00 goes back from line 5's (2026-01-14 23:30): a date not "
+     "advanced past midnight?"),
+    ("gap", _log(_NIGHT[:4] + [r.replace("2026-01-15", "2026-01-25") for r in _NIGHT[4:]]), "time",
+     "the log jumps 240 h between 2026-01-14 23:30 and 2026-01-25 00:00"),
+    ("kelvin", _log([r.replace(",21.0,", ",294.15,") for r in _NIGHT]), "indoor_air_c",
+     "line 2: 294.15 is outside -30…45 °C; logged in kelvin? 294.15 K is 21.00 °C"),
+    ("fahrenheit", _log([r.replace(",21.0,", ",69.8,") for r in _NIGHT]), "indoor_air_c",
+     "logged in °F? 69.8 °F is 21.0 °C"),
+])
+def test_air_log_slips_refused_naming_the_line(tmp_path, case, text, field, expect):
+    from envelope.readers import load_air_log
+
+    (tmp_path / "log.csv").write_text(text)
+    with pytest.raises(SurveyError) as err:
+        load_air_log(tmp_path / "log.csv", "series/log.csv")
+    assert err.value.file == "series/log.csv" and err.value.field == field, str(err.value)
+    assert expect in err.value.detail, err.value.detail
+
+
+def test_air_log_across_midnight_in_either_order(tmp_path):
+    from envelope.readers import load_air_log
+
+    for order in (_NIGHT, _NIGHT[::-1]):  # oldest first, or newest first as some loggers write
+        (tmp_path / "log.csv").write_text(_log(order))
+        df = load_air_log(tmp_path / "log.csv")
+        assert df["hours"].tolist() == [0.5 * i for i in range(10)]

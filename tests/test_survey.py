@@ -80,6 +80,45 @@ BROKEN = [
     ("window-outside-wall", dict(outlines={"type": "FeatureCollection", "features": [
         outlines_geojson()["features"][1]]}), "test-window"),
     ("no-scale", dict(toml=_toml("[thermograms.known_length]\npixel_a = [0, 119.5]\npixel_b = [160, 119.5]\nlength_m = 4.0\n", "")), "reference_points"),
+    # a tired surveyor's slips: each refused with the fix in the message
+    ("unit-in-number", dict(toml=_toml("indoor_air_c = 21.0", 'indoor_air_c = "21 C"')),
+     "write the number alone, without quotes or unit: 21"),
+    ("decimal-comma-as-text", dict(toml=_toml("emissivity = 0.93", 'emissivity = "0,93"')),
+     "with a decimal point: 0.93"),
+    ("decimal-comma-bare", dict(toml=_toml("emissivity = 0.93", "emissivity = 0,93")),
+     "decimal point, not a comma"),
+    ("number-in-quotes", dict(toml=_toml("outdoor_air_c = 1.0", 'outdoor_air_c = "1.0"')),
+     "without quotes: 1.0"),
+    ("rh-percent-as-text", dict(toml=_toml("indoor_rh = 0.5", 'indoor_rh = "50%"')),
+     "write the fraction without quotes or %: 0.5"),
+    ("reflected-in-kelvin", dict(toml=_toml("reflected_c = 20.0\ndistance_m", "reflected_c = 293.15\ndistance_m")),
+     "thermograms[0].reflected_c: expected a value in [-80, 200] [°C], got 293.15 — was it given in kelvin? 293.15 K is 20.00 °C"),
+    ("indoor-air-in-kelvin", dict(toml=_toml("indoor_air_c = 21.0", "indoor_air_c = 294.15")),
+     "kelvin? 294.15 K is 21.00 °C"),
+    ("indoor-air-in-fahrenheit", dict(toml=_toml("indoor_air_c = 21.0", "indoor_air_c = 70")),
+     "°F? 70 °F is 21.1 °C"),
+    ("emissivity-in-percent", dict(toml=_toml("emissivity = 0.93", "emissivity = 93")),
+     "percent? write 0.93"),
+    ("efficiency-in-percent", dict(toml=_toml("heating_efficiency = 0.9", "heating_efficiency = 90")),
+     "percent? write 0.9"),
+    ("summer-survey", dict(toml=_toml("outdoor_air_c = 1.0", "outdoor_air_c = 26.0")),
+     "conditions.indoor_air_c: indoor air 21 °C is not warmer than outdoor air 26 °C"),
+    ("key-in-wrong-table", dict(toml=_toml("noise_k = 0.05", "noise_k = 0.05\nindoor_rh = 0.5")),
+     "camera.indoor_rh: unknown key here (it belongs in [conditions] or [climate])"),
+    ("key-given-twice", dict(toml=_toml("indoor_air_c = 21.0", "indoor_air_c = 21.0\nindoor_air_c = 20.0")),
+     "given twice"),
+    ("text-without-quotes", dict(toml=_toml('town = "Nowhere Parva"', "town = Nowhere Parva")),
+     "text goes in double quotes"),
+    # readings that cannot be what the survey says they are (read as declared, they would
+    # give plausible but wrong numbers)
+    ("fahrenheit-without-header", dict(pixels=readings() * 1.8 + 32.0), 'readings in °F? then set `unit = "F"`'),
+    ("fahrenheit-declared-for-celsius", dict(toml=_toml("[thermograms.export]\n", '[thermograms.export]\nunit = "F"\n')),
+     "the median reading -7.0 °C of this interior view is 8 K below the outdoor air (1 °C)"),
+    ("frozen-export", dict(pixels=np.full((120, 160), 18.25, np.float32)), "every valid pixel reads 18.25 °C"),
+    ("probe-far-from-image", dict(toml=_toml("[thermograms.known_length]", "[[thermograms.probes]]\npixel_xy = [30.5, 30.5]\nsurface_c = 64.0\n\n[thermograms.known_length]")),
+     "thermograms[room-north].probes[0]: contact probe 0 at (30.5, 30.5) px read 64 °C where the image reads"),
+    ("element-names-differ-in-case", dict(toml=_toml('name = "test-window"', 'name = "Test-Wall"')),
+     "elements[1].name: element name 'Test-Wall' differs from 'test-wall' only in letter case"),
 ]
 
 
@@ -99,6 +138,38 @@ def test_broken_survey_exit_2_nothing_written(tmp_path, case, mutation, expect):
     assert expect.lower() in msg.lower(), (case, msg)
     assert not out.exists()                          # nothing half-written
     assert sorted(p.name for p in tmp_path.iterdir()) == before
+
+
+@pytest.mark.parametrize("encoding, expect", [
+    ("utf-16", "survey.toml: saved as UTF-16 text; save it as UTF-8"),
+    ("cp1252", "survey.toml: not UTF-8 text (line 10, byte"),
+])
+def test_survey_file_in_another_encoding_is_refused_with_the_fix(tmp_path, encoding, expect):
+    root = write_survey(tmp_path / "s", _toml('surveyor = "T. Tester"', 'surveyor = "T. Testé"'))
+    (root / "survey.toml").write_bytes((root / "survey.toml").read_text("utf-8").encode(encoding))
+    res = runner.invoke(app, ["assess", str(root), "--out", str(tmp_path / "out"), "--quiet"])
+    assert res.exit_code == 2 and expect in res.output, res.output
+    assert len(res.output.strip().splitlines()) == 1 and not (tmp_path / "out").exists()
+
+
+@pytest.mark.parametrize("variant", ["bom", "crlf", "tabs"])
+def test_survey_file_with_bom_crlf_or_tabs_loads_the_same(tmp_path, variant):
+    text = {"bom": "\ufeff" + SURVEY_TOML, "crlf": SURVEY_TOML.replace("\n", "\r\n"),
+            "tabs": SURVEY_TOML.replace(" = ", "\t=\t")}[variant]
+    got = load_survey(write_survey(tmp_path / "s", text))
+    plain = load_survey(write_survey(tmp_path / "plain"))
+    for part in ("site", "conditions", "camera", "climate", "prices", "analysis", "elements",
+                 "measures"):
+        assert getattr(got, part) == getattr(plain, part), part
+
+
+def test_thermogram_ids_differing_in_case_are_refused(tmp_path):
+    block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
+    text = SURVEY_TOML + "\n" + block.replace('id = "room-north"', 'id = "Room-North"')
+    root = write_survey(tmp_path / "s", text)
+    with pytest.raises(SurveyError, match="differs from 'room-north' only in letter case") as err:
+        load_survey(root)
+    assert err.value.field == "thermograms[1].id"
 
 
 def test_messages_name_file_and_field(tmp_path):
@@ -364,3 +435,28 @@ def test_native_toml_date_and_new_keys_load(tmp_path):
     assert s.elements["test-window"].u_specified_basis == "environmental"
     assert s.airtightness.n50_per_h == 4.2 and s.airtightness.shielding == "normal"
     assert s.junctions[0].elements == ("test-wall", "test-window")
+
+
+def test_small_temperature_difference_is_assessed_and_flagged_not_a_crash(tmp_path):
+    # ΔT of 0.5 K on readings of a cold night: the surfaces sit below the stated outdoor air,
+    # so no pixel loses heat outwards; the run finishes with the night marked not valid
+    root = write_survey(tmp_path / "s", _toml("outdoor_air_c = 1.0", "outdoor_air_c = 20.5")
+                        .replace("outdoor_history_c = [1.5, 1.3, 1.2, 1.0]", ""))
+    out = tmp_path / "out"
+    res = runner.invoke(app, ["assess", str(root), "--out", str(out), "--quiet", "--draws", "200"])
+    assert res.exit_code == 0, res.output
+    results = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    assert {c["name"]: c["status"] for c in results["checks"]}["delta_t"] == "fail"
+    wall = next(e for e in results["elements"] if e["name"] == "test-wall")
+    assert wall["risk"] == "not assessed" and "not warmer than the outdoor air" in wall["risk_note"]
+
+
+@pytest.mark.parametrize("command", ["assess", "inspect"])
+def test_outline_errors_name_the_file_as_the_survey_does(tmp_path, command):
+    root = write_survey(tmp_path / "s", outlines=_bowtie())
+    args = [command, str(root)] + (["--out", str(tmp_path / "out"), "--quiet"] if command == "assess" else [])
+    res = runner.invoke(app, args)
+    assert res.exit_code == 2, res.output
+    line = next(ln for ln in res.output.splitlines() if ln.startswith("envelope: error:"))
+    assert "outlines/room-north.geojson: features[0].geometry.coordinates" in line, line
+    assert str(tmp_path) not in res.output   # no full path of the user's disk in messages

@@ -66,6 +66,12 @@ def element_risk(res: ElementResult, frsi_values, limits, design: DesignConditio
     mould, cond = limits
     if mould is None or np.size(frsi_values) == 0:
         return res
+    if frsi_design_values is not None and not np.isfinite(frsi_design_values).any():
+        # no pixel loses heat outwards on the night's readings (surfaces at or below the
+        # outdoor air): there is no design-convention factor to judge
+        return dataclasses.replace(res, risk="not assessed", risk_note=(
+            "no pixel loses heat outwards on the night's readings (the surface is not warmer "
+            "than the outdoor air): risk not judged"))
     notes = []
     if res.kind == "window":
         mould = cond
