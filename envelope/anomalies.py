@@ -31,6 +31,7 @@ import shapely
 import shapely.ops
 from scipy import ndimage
 
+from envelope.bridges import median
 from envelope.errors import SurveyError
 from envelope.junctions import Junction, find_junctions
 
@@ -222,8 +223,8 @@ def reference_level(frsi, mask, reference_mask=None) -> tuple[float, float]:
     v = frsi[zone]
     if v.size == 0:
         return np.nan, np.nan
-    level = float(np.median(v))
-    sigma = float(MAD_TO_SIGMA * np.median(np.abs(v - level)))
+    level = median(v)
+    sigma = float(MAD_TO_SIGMA * median(np.abs(v - level)))
     return level, sigma
 
 
@@ -248,15 +249,26 @@ def _disk(radius: int) -> np.ndarray:
 
 
 def _dilate(a, r):
-    if r == 1:  # the full 3 x 3 square: separable, done as two 1-D passes
-        return ndimage.maximum_filter(a, size=3, mode="constant", cval=0)
-    return ndimage.binary_dilation(a, structure=_disk(r)).view(np.uint8)
+    """Binary dilation of a bool array by `_disk` (r) with False beyond the edge."""
+    if r == 1:  # the full 3 x 3 square, separable: a row pass then a column pass
+        h = a.copy()
+        h[:, 1:] |= a[:, :-1]
+        h[:, :-1] |= a[:, 1:]
+        out = h.copy()
+        out[1:] |= h[:-1]
+        out[:-1] |= h[1:]
+        return out
+    return ndimage.binary_dilation(a, structure=_disk(r))
 
 
 def _erode(a, r):
+    """Binary erosion of a bool array by `_disk` (r) with False beyond the edge."""
     if r == 1:
-        return ndimage.minimum_filter(a, size=3, mode="constant", cval=0)
-    return ndimage.binary_erosion(a, structure=_disk(r)).view(np.uint8)
+        h = a[:, :-2] & a[:, 1:-1] & a[:, 2:]
+        out = np.zeros_like(a)
+        out[1:-1, 1:-1] = h[:-2] & h[1:-1] & h[2:]
+        return out
+    return ndimage.binary_erosion(a, structure=_disk(r))
 
 
 def _clean(binary, settings: DefectSettings):
@@ -264,19 +276,19 @@ def _clean(binary, settings: DefectSettings):
     if not binary.any():
         return binary
     pad = max(settings.opening_px, settings.closing_px) + 1
-    out = np.pad(binary, pad).view(np.uint8)
+    out = np.pad(np.asarray(binary, bool), pad)
     if settings.opening_px > 0:
         out = _dilate(_erode(out, settings.opening_px), settings.opening_px)
     if settings.closing_px > 0:
         out = _erode(_dilate(out, settings.closing_px), settings.closing_px)
-    return out[pad:-pad, pad:-pad].astype(bool)
+    return out[pad:-pad, pad:-pad].copy()
 
 
 def _bbox(mask):
     rows = np.flatnonzero(mask.any(axis=1))
-    cols = np.flatnonzero(mask.any(axis=0))
     if rows.size == 0:
         return None
+    cols = np.flatnonzero(mask[rows[0]:rows[-1] + 1].any(axis=0))
     return slice(rows[0], rows[-1] + 1), slice(cols[0], cols[-1] + 1)
 
 
@@ -349,15 +361,16 @@ def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, ext
         if sign == "warm" and (side == "exterior" or not settings.report_warm):
             # only interior warm spots get a note; exterior cold spots are not defects
             continue
-        lab, k = ndimage.label(binary)
-        if k == 0:
+        if not binary.any():
             continue
-        sizes = ndimage.sum(area, lab, index=np.arange(1, k + 1))
+        lab, k = ndimage.label(binary)
+        # the area of each label: the sum `scipy.ndimage.sum` takes
+        sizes = np.bincount(lab.ravel(), weights=area.ravel(), minlength=k + 1)[1:]
         keep = np.flatnonzero(sizes >= settings.min_area_m2) + 1
         remap = np.zeros(k + 1, dtype=np.int32)
         remap[keep] = np.arange(n + 1, n + 1 + keep.size)
-        sel = lab > 0
-        labels[sel] = np.where(remap[lab[sel]] > 0, remap[lab[sel]], labels[sel])
+        new = remap[lab]
+        labels = np.where(new > 0, new, labels)
         tag = sign if side == "interior" else "warm"
         out["kept"].extend((n + 1 + i, tag) for i in range(keep.size))
         n += keep.size
@@ -387,42 +400,38 @@ def pixel_polygon(mask, offset=(0, 0)):
     into rectangles, and the rectangles are unioned (GEOS cascaded union): a rectangular
     region costs one box whatever its size.
     """
-    m = np.asarray(mask, bool)
-    p = np.zeros((m.shape[0], m.shape[1] + 2), dtype=np.int8)
-    p[:, 1:-1] = m
-    d = np.diff(p, axis=1)
-    rr, cc = np.nonzero(d == 1)
-    _, ce = np.nonzero(d == -1)
-    boxes = []
-    open_runs: dict[tuple[int, int], int] = {}
-    prev_row = -2
-    bounds = np.flatnonzero(np.diff(rr)) + 1
-    for idx in np.split(np.arange(rr.size), bounds):
-        if idx.size == 0:
-            continue
-        r = int(rr[idx[0]])
-        runs = list(zip(cc[idx].tolist(), ce[idx].tolist(), strict=True))
-        if r != prev_row + 1:
-            for (s0, e0), r0 in open_runs.items():
-                boxes.append((s0, r0, e0, prev_row + 1))
-            open_runs = {}
-        new_runs = {}
-        for key in runs:
-            new_runs[key] = open_runs.pop(key, r)
-        for (s0, e0), r0 in open_runs.items():
-            boxes.append((s0, r0, e0, r))
-        open_runs = new_runs
-        prev_row = r
-    for (s0, e0), r0 in open_runs.items():
-        boxes.append((s0, r0, e0, prev_row + 1))
-    if not boxes:
+    boxes = _row_run_boxes(np.asarray(mask, bool))
+    if not boxes.size:
         return shapely.Polygon()
     oy, ox = offset
-    b = np.asarray(boxes, dtype=float)
+    b = boxes.astype(float)
     polys = shapely.box(b[:, 0] + ox, b[:, 1] + oy, b[:, 2] + ox, b[:, 3] + oy)
     if len(polys) == 1:
         return polys[0]
     return shapely.union_all(polys)
+
+
+def _row_run_boxes(m) -> np.ndarray:
+    """Rectangles ``(x0, y0, x1, y1)`` [px] of a mask: runs of set pixels on a row stacked
+    with identical runs on the following rows; in the order their last row ends, then by
+    column (int array (n, 4))."""
+    p = np.zeros((m.shape[0], m.shape[1] + 2), dtype=np.int8)
+    p[:, 1:-1] = m
+    d = np.diff(p, axis=1)
+    rr, cs = np.nonzero(d == 1)
+    _, ce = np.nonzero(d == -1)
+    if not rr.size:
+        return np.zeros((0, 4), int)
+    # the runs of one (start, end) column pair, row by row: a stack goes on while the rows
+    # follow one another
+    order = np.lexsort((rr, ce, cs))
+    r, s, e = rr[order], cs[order], ce[order]
+    same = np.zeros(r.size, bool)
+    same[1:] = (s[1:] == s[:-1]) & (e[1:] == e[:-1]) & (r[1:] == r[:-1] + 1)
+    first = np.flatnonzero(~same)
+    last = np.append(first[1:], r.size) - 1
+    boxes = np.stack([s[first], r[first], e[first], r[last] + 1], axis=1)
+    return boxes[np.lexsort((boxes[:, 0], boxes[:, 3]))]
 
 
 def _side_of(vec_x: float, vec_y: float) -> str:

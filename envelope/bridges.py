@@ -37,7 +37,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 from scipy import ndimage
@@ -46,6 +46,7 @@ from envelope.zones import undisturbed_mask
 
 __all__ = [
     "MAD_TO_SIGMA",
+    "median",
     "Zone",
     "reference_flux",
     "reference_fluxes",
@@ -103,6 +104,22 @@ class Zone:
         inner = (slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1))
         return cls(sl, m[inner].copy(), distance_m, stop)
 
+    @classmethod
+    def union_of(cls, zones, shape=None) -> Zone:
+        """The union of zones (their masks ORed inside the union of their slices)."""
+        zs = [z for z in zones if z.mask.size]
+        if not zs:
+            return cls((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool), frame_shape=shape)
+        r0 = min(z.slices[0].start for z in zs)
+        r1 = max(z.slices[0].stop for z in zs)
+        c0 = min(z.slices[1].start for z in zs)
+        c1 = max(z.slices[1].stop for z in zs)
+        m = np.zeros((r1 - r0, c1 - c0), bool)
+        for z in zs:
+            m[z.slices[0].start - r0:z.slices[0].stop - r0,
+              z.slices[1].start - c0:z.slices[1].stop - c0] |= z.mask
+        return cls((slice(r0, r1), slice(c0, c1)), m, frame_shape=shape)
+
     def full(self, shape=None) -> np.ndarray:
         """The zone as a full-frame boolean mask of `shape` (default: `frame_shape`)."""
         shape = self.frame_shape if shape is None else shape
@@ -149,6 +166,19 @@ def _check_maps(q_w_m2, area_map_m2):
     return q, a
 
 
+def median(values) -> float:
+    """Median of finite values, the number `numpy.median` gives (the mean of the two middle
+    values for an even count), from one partition at the middle rank: numpy's partition at
+    two neighbouring ranks can take several times longer. NaN for no values."""
+    v = np.asarray(values, dtype=float).ravel()
+    n = v.size
+    if n == 0:
+        return math.nan
+    k = n // 2
+    p = np.partition(v, k)
+    return float(np.mean(p[k:k + 1] if n % 2 else np.array([p[:k].max(), p[k]])))
+
+
 def reference_flux(q_w_m2, area_map_m2, mask) -> tuple[float, float, int]:
     """Undisturbed heat flux of a zone: area-weighted mean [W/m²], robust spread, pixels.
 
@@ -173,7 +203,7 @@ def reference_flux(q_w_m2, area_map_m2, mask) -> tuple[float, float, int]:
     qv, av = q[m], a[m]
     mean = float(np.sum(qv * av) / np.sum(av))
     sub = qv[::max(1, qv.size // 5000)]  # the spread from at most ~5 000 pixels
-    sigma = float(MAD_TO_SIGMA * np.median(np.abs(sub - np.median(sub))))
+    sigma = float(MAD_TO_SIGMA * median(np.abs(sub - median(sub))))
     return mean, sigma, int(qv.size)
 
 
@@ -211,39 +241,141 @@ def reference_fluxes(q_w_m2, area_map_m2, masks: dict) -> dict:
     return {name: reference_flux(q_w_m2, area_map_m2, m) for name, m in masks.items()}
 
 
-def _pixel_size(area):
-    ok = np.isfinite(area) & (area > 0)
+def _ring_width(area) -> float:
+    """Median pixel size [m]: the width of one ring (from every 7th pixel both ways, or
+    from every pixel when none of those is valid; 1 without any valid pixel)."""
     sub = area[::7, ::7]
     sub = sub[np.isfinite(sub) & (sub > 0)]
-    med = float(np.sqrt(np.median(sub))) if sub.size else (
-        float(np.sqrt(np.median(area[ok]))) if ok.any() else 1.0)
-    return np.where(ok, np.sqrt(np.where(ok, area, 1.0)), med), med
+    if sub.size:
+        return float(np.sqrt(median(sub)))
+    ok = np.isfinite(area) & (area > 0)
+    return float(np.sqrt(median(area[ok]))) if ok.any() else 1.0
+
+
+def _pixel_size(area_m2, median_m: float) -> np.ndarray:
+    """Local pixel size ``sqrt(A)`` [m] of pixel areas [m²/px]; `median_m` where A is invalid."""
+    ok = np.isfinite(area_m2) & (area_m2 > 0)
+    return np.where(ok, np.sqrt(np.where(ok, area_m2, 1.0)), median_m)
+
+
+def _boxed_seed(seed, shape, k: int):
+    """A seed as ``(slices, mask inside them)``: a `Zone` as it is, a full-frame mask trimmed
+    to its bounding box; ``(None, None)`` when empty."""
+    if isinstance(seed, Zone):
+        if seed.frame_shape is not None and tuple(seed.frame_shape) != tuple(shape):
+            raise ValueError(f"seed {k} belongs to a frame of {seed.frame_shape}, the image {shape}")
+        if seed.mask.size == 0:
+            return None, None
+        return seed.slices, np.asarray(seed.mask, bool)
+    s = np.asarray(seed, bool)
+    if s.shape != shape:
+        raise ValueError(f"seed {k} has shape {s.shape}, the image {shape}")
+    box = _box_of(s)
+    return (None, None) if box is None else (box, s[box])
+
+
+def _seed_pixels(seed_id, n: int):
+    """Rows and columns of each seed's pixels (raster order): ``rows, cols, starts`` with seed
+    k at ``[starts[k]:starts[k + 1]]``."""
+    box = _box_of(seed_id > 0)
+    if box is None:
+        empty = np.zeros(0, np.intp)
+        return empty, empty, np.zeros(n + 1, np.intp)
+    sub = seed_id[box]
+    rr, cc = np.nonzero(sub)
+    ids = sub[rr, cc]
+    order = np.argsort(ids, kind="stable")
+    starts = np.searchsorted(ids[order], np.arange(1, n + 2))
+    return rr[order] + box[0].start, cc[order] + box[1].start, starts
 
 
 @dataclass
 class ZoneGeometry:
-    """What the zones of one set of seeds share whatever the reference flux: each pixel's
-    nearest seed, its ring, and each seed's cell (reused across the passes of
-    `envelope.defects.find_defects`; built by `zone_geometry`)."""
+    """What the zones of one set of seeds share whatever the reference flux (reused across
+    the passes of `envelope.defects.find_defects`; built by `zone_geometry` from the pixel
+    areas and labels that `integration_zones` is then given).
 
-    seed_id: np.ndarray
-    ring: np.ndarray
+    Seed k's pixels are ``seed_rows``/``seed_cols`` ``[seed_starts[k]:seed_starts[k + 1]]``
+    (raster order). Inside the slices ``box`` of the frame, ``cell`` holds the seed (1...)
+    nearest to each ring pixel (a valid pixel off every seed within the cut-off), 0
+    elsewhere, and ``ring`` its ring (1 ... ``max_ring``, width ``ring_m`` [m]).
+    ``labels`` and ``area`` are the frame's element labels and pixel areas [m²].
+    """
+
+    shape: tuple[int, int]
     ring_m: float
     max_ring: int
-    boxes: list
-    cells: np.ndarray
-    valid: np.ndarray
     n_seeds: int
+    seed_rows: np.ndarray
+    seed_cols: np.ndarray
+    seed_starts: np.ndarray
+    box: tuple[slice, slice]
+    cell: np.ndarray
+    ring: np.ndarray
+    labels: np.ndarray
+    area: np.ndarray
+    _inner: dict = field(default_factory=dict, repr=False)
+    last_masks: tuple | None = field(default=None, repr=False)
+    """The zone masks of the last `integration_zones` pass, with what they were built from."""
+
+    def ring_pixels(self, up_to: int) -> tuple:
+        """The ring pixels of rings 1 ... `up_to`, in raster order: ``rows, cols`` (frame),
+        their seed ``cell`` (1...), ``ring``, element label (0 outside every element) and area
+        [m²] (kept for the next pass)."""
+        if up_to not in self._inner:
+            px = np.flatnonzero((self.cell > 0) & (self.ring <= up_to))
+            rr, cc = np.divmod(px, self.cell.shape[1])
+            rr += self.box[0].start
+            cc += self.box[1].start
+            self._inner[up_to] = (rr, cc, self.cell.ravel()[px], self.ring.ravel()[px],
+                                  np.maximum(self.labels[rr, cc], 0), self.area[rr, cc])
+        return self._inner[up_to]
+
+
+def _rings(seed_id, valid, area_m2, ring_m: float, max_ring: int):
+    """Nearest seed and ring of the valid pixels off every seed: ``box, cell, ring``.
+
+    The exact Euclidean feature transform (Maurer et al. 2003, `scipy.ndimage`) over the
+    bounding box of the valid and seed pixels (every seed lies inside it, so each pixel's
+    nearest seed pixel is the one the whole frame gives). Its distance d [px], as
+    `scipy.ndimage.distance_transform_edt` computes it from the feature indices, times the
+    local pixel size s [m] puts a pixel in ring ``ceil(d s / ring_m)``.
+
+    References
+    ----------
+    C. R. Maurer, R. Qi and V. Raghavan, "A linear time algorithm for computing exact
+    Euclidean distance transforms of binary images in arbitrary dimensions", IEEE Trans.
+    PAMI 25 (2003) 265–270.
+    """
+    box = _box_of(valid | (seed_id > 0))
+    sid = seed_id[box]
+    h, w = sid.shape
+    ft = ndimage.distance_transform_edt(sid == 0, return_distances=False, return_indices=True)
+    dist = (ft[0] - np.arange(h, dtype=ft.dtype)[:, None]).astype(np.float64)
+    dc = (ft[1] - np.arange(w, dtype=ft.dtype)[None, :]).astype(np.float64)
+    np.multiply(dist, dist, out=dist)
+    np.multiply(dc, dc, out=dc)
+    np.add(dist, dc, out=dist)
+    np.sqrt(dist, out=dist)  # [px]
+    np.multiply(dist, _pixel_size(area_m2[box], ring_m), out=dist)  # [m]
+    np.divide(dist, ring_m, out=dist)
+    np.subtract(dist, 1e-9, out=dist)
+    np.ceil(dist, out=dist)
+    ring = np.minimum(dist, max_ring + 1, out=dist).astype(np.int32)
+    near = np.take(sid, ft[0] * w + ft[1])
+    ok = valid[box] & (sid == 0) & (ring > 0) & (ring <= max_ring)
+    return box, np.where(ok, near, 0), ring
 
 
 def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
                   cutoff_m: float = 2.0) -> ZoneGeometry:
-    """Nearest seed, ring index and cell of every pixel for `integration_zones`.
+    """Seed pixels, and nearest seed and ring of every other pixel, for `integration_zones`.
 
     Every pixel goes to its nearest seed (Euclidean distance transform); its distance d
     [m] (pixels times the local pixel size) puts it in ring ``ceil(d / s)`` of width s, the
     median pixel size. A seed's cell holds the valid pixels nearest to it within the
-    cut-off.
+    cut-off. Seeds are full-frame boolean masks or `Zone` (a mask inside its slices); a
+    pixel of two seeds belongs to the first.
     """
     a = np.asarray(area_map_m2, dtype=float)
     labels = _int_labels(labels)
@@ -252,29 +384,77 @@ def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
         raise ValueError(f"labels {labels.shape} must have the image's shape {shape}")
     if not cutoff_m >= 1.0:
         raise ValueError(f"cutoff_m must be >= 1 m (ISO 10211 cut-off planes), got {cutoff_m}")
+    n = len(seeds)
     seed_id = np.zeros(shape, dtype=np.int32)
     for k, s in enumerate(seeds):
-        s = np.asarray(s, bool)
-        if s.shape != shape:
-            raise ValueError(f"seed {k} has shape {s.shape}, the image {shape}")
-        seed_id[s & (seed_id == 0)] = k + 1
+        box, m = _boxed_seed(s, shape, k)
+        if box is not None:
+            sub = seed_id[box]
+            sub[m & (sub == 0)] = k + 1
     valid = (labels >= 0) & np.isfinite(a)
     if q_w_m2 is not None:
         valid &= np.isfinite(np.asarray(q_w_m2, dtype=float))
     if allowed is not None:
         valid &= np.asarray(allowed, bool)
-    pix, ring_m = _pixel_size(a)
+    ring_m = _ring_width(a)
     max_ring = int(math.ceil(cutoff_m / ring_m))
-    if (seed_id > 0).all() or not (seed_id > 0).any():
-        ring = np.zeros(shape, dtype=np.int32)
-        nearest = seed_id
+    seed_rows, seed_cols, seed_starts = _seed_pixels(seed_id, n)
+    if seed_rows.size in (0, seed_id.size):  # no seed, or nothing but seeds: no ring
+        box = (slice(0, shape[0]), slice(0, shape[1]))
+        cell = np.zeros(shape, np.int32)
+        ring = cell
     else:
-        dist_px, (ir, ic) = ndimage.distance_transform_edt(seed_id == 0, return_indices=True)
-        nearest = seed_id[ir, ic]
-        ring = np.minimum(np.ceil(dist_px * pix / ring_m - 1e-9), max_ring + 1).astype(np.int32)
-    cells = np.where((valid & (ring <= max_ring)) | (seed_id > 0), nearest, 0)
-    boxes = ndimage.find_objects(cells, max_label=len(seeds))
-    return ZoneGeometry(seed_id, ring, ring_m, max_ring, boxes, cells, valid, len(seeds))
+        box, cell, ring = _rings(seed_id, valid, a, ring_m, max_ring)
+    return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts, box, cell,
+                        ring, labels, a)
+
+
+def _first_stop(s_a, s_e, s_v, peak, win: int, noise_z: float, tail_fraction: float,
+                max_ring: int):
+    """First window of rings whose mean excess is at or under the noise, for each seed.
+
+    ``s_a``, ``s_e``, ``s_v`` (n_seeds, top + 2): area [m²], excess heat [W] and its
+    variance [W²] of rings 0 ... top + 1 (rings past ``top`` not summed); ``peak`` the
+    seeds' excess [W/m²]. Returns ``r_stop`` (the first ring left out; ``max_ring + 1`` at
+    the cut-off) and the reason ("no more pixels", "noise", "tail fraction" or "cut-off")
+    of each seed; both None for a seed whose windows within ``top`` all pass (more rings
+    needed) while ``top < max_ring``.
+    """
+    n, width = s_a.shape
+    top = width - 2
+    zero = np.zeros((n, 1))
+    c_a, c_e, c_v = (np.concatenate([zero, np.cumsum(x, axis=1)], axis=1)
+                     for x in (s_a, s_e, s_v))
+    if top >= max_ring:
+        r0 = np.arange(1, max_ring + 1)
+        r1 = np.minimum(r0 + win, max_ring + 1)
+    else:  # only the windows that end within the rings summed
+        r0 = np.arange(1, max(top + 2 - win, 1))
+        r1 = r0 + win
+    w_a = c_a[:, r1] - c_a[:, r0]
+    w_e = c_e[:, r1] - c_e[:, r0]
+    w_v = c_v[:, r1] - c_v[:, r0]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        mean = w_e / w_a
+        noise = np.sqrt(w_v) / w_a
+    floor = tail_fraction * np.asarray(peak, dtype=float)[:, None]
+    thr = np.maximum(noise_z * noise, floor)
+    stop = (w_a <= 0) | ~(mean > thr)
+    first = np.argmax(stop, axis=1) if r0.size else np.zeros(n, int)
+    r_stop, reasons = [], []
+    for k in range(n):
+        i = int(first[k])
+        if r0.size and stop[k, i]:
+            r_stop.append(int(r0[i]))
+            reasons.append("no more pixels" if w_a[k, i] <= 0 else
+                           "noise" if noise_z * noise[k, i] >= floor[k, 0] else "tail fraction")
+        elif top >= max_ring:
+            r_stop.append(max_ring + 1)
+            reasons.append("cut-off")
+        else:
+            r_stop.append(None)
+            reasons.append(None)
+    return r_stop, reasons
 
 
 def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_m2,
@@ -289,9 +469,9 @@ def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_
         Surface heat flux through the elements [W/m²] (positive through the element).
     area_map_m2 : ndarray (H, W)
         Area of each pixel on its element's plane [m²/px].
-    seeds : sequence of bool (H, W)
+    seeds : sequence of bool (H, W) or of Zone
         Each defect's seed: its thresholded region (for a junction, its fragments and the
-        gaps between them).
+        gaps between them), full frame or as a `Zone` (a mask inside its slices).
     labels : int ndarray (H, W)
         Index of each pixel's element (into `q_ref_w_m2`), -1 outside every element.
     q_ref_w_m2, q_sigma_w_m2 : array_like
@@ -325,7 +505,8 @@ def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_
     standard error ``σ_ē = sqrt(Σ σ² A²) / Σ A`` are compared with ``max(noise_z σ_ē,
     tail_fraction ē_seed)``; the zone is the seed and the rings before the first window at
     or under it. An exponential tail exp(-d/λ) stopped at a fraction f of its start leaves
-    f of its integral out.
+    f of its integral out. The sums of every seed's rings are one labelled sum over the
+    frame (`numpy.bincount` on (seed, ring) bins).
     """
     q, a = _check_maps(q_w_m2, area_map_m2)
     labels = _int_labels(labels)
@@ -342,63 +523,86 @@ def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_
         return []
     g = geometry if geometry is not None else zone_geometry(
         seeds, a, labels, allowed, q, cutoff_m)
-    if g.n_seeds != len(seeds) or g.seed_id.shape != q.shape:
+    if g.n_seeds != len(seeds) or tuple(g.shape) != q.shape:
         raise ValueError("geometry was built for other seeds or another image")
-    ring_m, max_ring = g.ring_m, g.max_ring
-    win = max(1, int(round(ring_window_m / ring_m)))
+    n, shape = g.n_seeds, q.shape
+    win = max(1, int(round(ring_window_m / g.ring_m)))
     sig2 = np.where(np.isfinite(q_sig), q_sig, 0.0) ** 2
+    # each seed's excess [W/m²]: area-weighted over its valid pixels
+    lab = labels[g.seed_rows, g.seed_cols]
+    qs, as_ = q[g.seed_rows, g.seed_cols], a[g.seed_rows, g.seed_cols]
+    ok = (lab >= 0) & np.isfinite(qs) & np.isfinite(as_)
+    exc = qs - q_ref[np.where(lab >= 0, lab, 0)]
+    peak = np.full(n, np.nan)
+    n_ok = np.zeros(n, int)
+    for k in range(n):
+        part = slice(g.seed_starts[k], g.seed_starts[k + 1])
+        keep = ok[part]
+        a_seed = as_[part][keep]
+        n_ok[k] = a_seed.size
+        if a_seed.sum() > 0:
+            peak[k] = float(np.sum(exc[part][keep] * a_seed) / np.sum(a_seed))
+    grown = [n_ok[k] > 0 and grow[k] and peak[k] > 0 for k in range(n)]
+    # the rings of every seed: area, excess heat and its variance per (seed, ring), over as
+    # few rings as decide where each grown zone stops (the sums of a ring do not depend on
+    # how many rings are summed)
+    top = min(win, g.max_ring)
+    while True:
+        rr, cc, cell, ring, lab, av = g.ring_pixels(top)
+        bins = (cell - 1).astype(np.intp) * (top + 2) + ring
+        size = n * (top + 2)
+        s_a, s_e, s_v = (np.bincount(bins, weights=wt, minlength=size).reshape(n, top + 2)
+                         for wt in (av, (q[rr, cc] - q_ref[lab]) * av, sig2[lab] * av * av))
+        r_stop, reasons = _first_stop(s_a, s_e, s_v, peak, win, noise_z, tail_fraction,
+                                      g.max_ring)
+        if top >= g.max_ring or all(r is not None for r, gk in zip(r_stop, grown, strict=True)
+                                    if gk):
+            break
+        top = min(4 * top, g.max_ring)
+    # each zone: its seed's valid pixels and, when grown, its rings before the stop
+    upto = np.zeros(n + 1, np.int32)
+    upto[1:] = [r if gk else 0 for r, gk in zip(r_stop, grown, strict=True)]
     zones = []
-    for k in range(len(seeds)):
-        box = g.boxes[k]
-        if box is None:
-            zones.append(Zone((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool)))
+    for k, (sl, mask) in enumerate(_zone_masks(g, upto, ok, top)):
+        if sl is None:
+            zones.append(Zone((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool),
+                              frame_shape=shape))
             continue
-        lab = labels[box]
-        qb, ab = q[box], a[box]
-        inside = lab >= 0
-        seed_box = (g.seed_id[box] == k + 1) & inside & np.isfinite(qb) & np.isfinite(ab)
-        if not seed_box.any():
-            zones.append(Zone((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool)))
-            continue
-        labc = np.where(inside, lab, 0)
-        exc = qb - q_ref[labc]
-        a_seed = ab[seed_box]
-        peak = float(np.sum(exc[seed_box] * a_seed) / np.sum(a_seed)) if a_seed.sum() > 0 \
-            else math.nan
-        if not grow[k] or not peak > 0:
-            zones.append(Zone.from_box(box, seed_box, 0.0, "seed only"))
-            continue
-        ring = g.ring[box]
-        cand = g.valid[box] & (g.cells[box] == k + 1) & (ring > 0) & (ring <= max_ring)
-        r = ring[cand]
-        av = ab[cand]
-        s_a = np.bincount(r, weights=av, minlength=max_ring + 2)
-        s_e = np.bincount(r, weights=exc[cand] * av, minlength=max_ring + 2)
-        s_v = np.bincount(r, weights=sig2[labc[cand]] * av * av, minlength=max_ring + 2)
-        c_a, c_e, c_v = (np.concatenate([[0.0], np.cumsum(x)]) for x in (s_a, s_e, s_v))
-        r0 = np.arange(1, max_ring + 1)
-        r1 = np.minimum(r0 + win, max_ring + 1)
-        w_a = c_a[r1] - c_a[r0]
-        w_e = c_e[r1] - c_e[r0]
-        w_v = c_v[r1] - c_v[r0]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            mean = w_e / w_a
-            noise = np.sqrt(w_v) / w_a
-        floor = tail_fraction * peak
-        thr = np.maximum(noise_z * noise, floor)
-        stop_at = np.flatnonzero((w_a <= 0) | ~(mean > thr))
-        if stop_at.size:
-            i = int(stop_at[0])
-            r_stop = int(r0[i])
-            reason = ("no more pixels" if w_a[i] <= 0 else
-                      "noise" if noise_z * noise[i] >= floor else "tail fraction")
-        else:
-            r_stop, reason = max_ring + 1, "cut-off"
-        zone_box = seed_box | (cand & (ring < r_stop))
-        zones.append(Zone.from_box(box, zone_box, (r_stop - 1) * ring_m, reason))
-    for z in zones:
-        z.frame_shape = q.shape
+        zones.append(Zone(sl, mask, (r_stop[k] - 1) * g.ring_m if grown[k] else 0.0,
+                          reasons[k] if grown[k] else "seed only", shape))
     return zones
+
+
+def _zone_masks(g: ZoneGeometry, upto, seed_ok, top: int) -> list:
+    """``(slices, mask)`` of each zone (``(None, None)`` when empty): the valid pixels of its
+    seed (`seed_ok` over the geometry's seed pixels) and its rings before ``upto[k + 1]``
+    (all within rings 1 ... `top`). The last answer is kept in the geometry: a pass whose
+    stops did not change reuses it."""
+    key = (upto.tobytes(), np.asarray(seed_ok).tobytes())
+    if g.last_masks is not None and g.last_masks[0] == key:
+        return g.last_masks[1]
+    n = g.n_seeds
+    rr, cc, cell, ring = g.ring_pixels(top)[:4]
+    inside = ring < upto[cell]
+    ids = np.repeat(np.arange(1, n + 1), np.diff(g.seed_starts))[seed_ok]
+    rows = np.concatenate([g.seed_rows[seed_ok], rr[inside]])
+    cols = np.concatenate([g.seed_cols[seed_ok], cc[inside]])
+    ids = np.concatenate([ids, cell[inside]])
+    order = np.argsort(ids, kind="stable")
+    starts = np.searchsorted(ids[order], np.arange(1, n + 2))
+    out = []
+    for k in range(n):
+        part = order[starts[k]:starts[k + 1]]
+        if not part.size:
+            out.append((None, None))
+            continue
+        r, c = rows[part], cols[part]
+        r0, r1, c0, c1 = int(r.min()), int(r.max()) + 1, int(c.min()), int(c.max()) + 1
+        mask = np.zeros((r1 - r0, c1 - c0), bool)
+        mask[r - r0, c - c0] = True
+        out.append(((slice(r0, r1), slice(c0, c1)), mask))
+    g.last_masks = (key, out)
+    return out
 
 
 def excess_heat(q_w_m2, area_map_m2, zone, labels, q_ref_w_m2, q_sigma_w_m2=None,

@@ -52,6 +52,7 @@ from envelope.quantify import (
     apply_leak_air,
     build_defect,
     full_mask,
+    region_zone,
     warm_defect,
 )
 from envelope.ranking import RISK_SCORES, defect_to_dict, rank_defects
@@ -80,6 +81,37 @@ ZONE_PASSES = 4
 MIN_UNDISTURBED_SHARE = 0.2
 """Below this share of an element left undisturbed, its defects carry a note (tails may
 remain in the reference; measured on exponential tails in tests/test_bridges.py)."""
+
+
+def _mask_zone(mask, shape) -> bridges.Zone:
+    """An element's mask as a `envelope.bridges.Zone` (trimmed to its bounding box)."""
+    m = np.asarray(mask, bool)
+    box = bridges._box_of(m)
+    if box is None:
+        return bridges.Zone((slice(0, 0), slice(0, 0)), np.zeros((0, 0), bool), frame_shape=shape)
+    return bridges.Zone(box, m[box], frame_shape=shape)
+
+
+def _label_box(labels, i: int, box):
+    """Bounding slices of ``labels == i`` (None when empty), searched inside `box`, the
+    element's own bounding box (the pixels labelled i are its pixels)."""
+    if box[0].stop <= box[0].start:
+        return None
+    inner = bridges._box_of(labels[box] == i)
+    if inner is None:
+        return None
+    r0, c0 = box[0].start, box[1].start
+    return (slice(r0 + inner[0].start, r0 + inner[0].stop),
+            slice(c0 + inner[1].start, c0 + inner[1].stop))
+
+
+def _label_sums(labels, mask, weights, n: int) -> np.ndarray:
+    """``np.bincount`` of the labels under `mask` (optionally weighted), length `n`; the
+    pixels are taken in raster order either way, so the sums do not depend on the path."""
+    if mask.all():
+        return np.bincount(labels.ravel(), None if weights is None else weights.ravel(),
+                           minlength=n)
+    return np.bincount(labels[mask], None if weights is None else weights[mask], minlength=n)
 
 
 def _pair_args(pair):
@@ -201,12 +233,15 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     use_pair = frsi_dep is not None and side == "interior"
     elements = list(regions.values())
     n_el = len(elements)
+    own_zone = [_mask_zone(el.mask, shape) for el in elements]
     labels = np.full(shape, -1, dtype=np.intp)
     allowed = np.zeros(shape, dtype=bool)
-    for i, el in enumerate(elements):
-        labels[el.mask] = i
+    for i, (el, z) in enumerate(zip(elements, own_zone, strict=True)):
+        if not z.mask.size:
+            continue
+        labels[z.slices][z.mask] = i
         if el.kind.lower() not in ZONE_EXCLUDED_KINDS:
-            allowed |= el.mask
+            allowed[z.slices] |= z.mask
     zoned = [i for i, el in enumerate(elements) if el.kind.lower() not in ZONE_EXCLUDED_KINDS]
     q_ref = np.full(n_el, np.nan)
     q_sig = np.zeros(n_el)
@@ -242,9 +277,10 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
         mine = [r for r, ok in zip(described, is_defect, strict=True) if ok]
         groups = find_repetition(mine, settings)
         sizes = {gi: len(g) for gi, g in enumerate(groups)}
-        m_el = el.mask[sl]
-        t_e_est = float(np.nanmedian(t[sl][m_el] - f[sl][m_el] * delta_t_k))
-        t_thr = t_e_est + (seg["level"] - seg["threshold"]) * delta_t_k
+        if use_pair:
+            m_el = el.mask[sl]
+            t_e_est = float(np.nanmedian(t[sl][m_el] - f[sl][m_el] * delta_t_k))
+            t_thr = t_e_est + (seg["level"] - seg["threshold"]) * delta_t_k
         for r, ok in zip(described, is_defect, strict=True):
             if not ok:
                 warm.append((r, seg["level"]))
@@ -267,9 +303,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             reps.setdefault((d["el"], r.repetition), []).append(k)
     for members in reps.values():
         if len(members) >= 2:
-            seed = np.zeros(shape, bool)
-            for k in members:
-                seed |= full_mask(cold[k], shape)
+            seed = bridges.Zone.union_of([region_zone(cold[k], shape) for k in members], shape)
             grouped.append(Group(members, "repeating", seed))
             used.update(members)
     classes = [d["cls"] if k not in used else "repeating thermal bridge"
@@ -286,11 +320,12 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
         seed = rasterise(hull, shape) & within
         for k in members:
             seed |= full_mask(cold[k], shape)
+        seed = bridges.Zone.from_full(seed)
         grouped.append(Group(members, "junction", seed, j))
         used.update(members)
     for k in range(len(cold)):
         if k not in used:
-            grouped.append(Group([k], "single", full_mask(cold[k], shape)))
+            grouped.append(Group([k], "single", region_zone(cold[k], shape)))
     for g in grouped:  # a linear bridge along a junction: its run, past fragments' ends
         cls = info[g.members[0]]["cls"]
         if g.kind == "single" and cls == "linear thermal bridge":
@@ -300,20 +335,19 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             g.junction = near[0] if near else None
         if g.kind in ("single", "junction") and g.junction is not None and (
                 g.kind == "junction" or cls == "linear thermal bridge"):
-            own = np.zeros(shape, bool)
-            for k in g.members:
-                own |= elements[info[k]["el"]].mask
+            own = bridges.Zone.union_of([own_zone[info[k]["el"]] for k in g.members], shape)
             g.along, g.seed = extend_along(q, area, g.seed, labels, q_ref,
                                            g.junction.direction_px, valid=own,
                                            q_sigma_w_m2=q_sig)
-    warm_seeds = [full_mask(r, shape) for r, _ in warm]
+    warm_seeds = [region_zone(r, shape) for r, _ in warm]
     # ---- zones until they settle, and the reference flux of each element's undisturbed area
     seeds = [g.seed for g in grouped] + warm_seeds
     grow = [True] * len(grouped) + [False] * len(warm)
     ref_notes: dict[int, str] = {}
     zones: list[bridges.Zone] = []
-    boxes = ndimage.find_objects(labels + 1, max_label=n_el)
-    n_valid = np.bincount(labels[(labels >= 0) & np.isfinite(q)], minlength=n_el)
+    boxes = [_label_box(labels, i, z.slices) for i, z in enumerate(own_zone)]
+    labelled_q = (labels >= 0) & np.isfinite(q)
+    n_valid = _label_sums(labels, labelled_q, None, n_el)
     geometry = bridges.zone_geometry(seeds, area, labels, allowed, q, settings.cutoff_m)
     for _ in range(ZONE_PASSES):
         previous = zones
@@ -322,6 +356,9 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             cutoff_m=settings.cutoff_m, noise_z=settings.noise_z,
             ring_window_m=settings.ring_window_m, tail_fraction=settings.tail_fraction,
             geometry=geometry)
+        if previous and all(a.slices == b.slices and np.array_equal(a.mask, b.mask)
+                            for a, b in zip(previous, zones, strict=True)):
+            break  # settled: the undisturbed areas and their flux are those of the last pass
         taken = np.zeros(shape, bool)
         for z in zones:
             taken[z.slices] |= z.mask
@@ -342,9 +379,6 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
                 ref_notes[i] = (f"undisturbed area of {el.name} too small ({n} px left "
                                 "outside the defects' zones): reference flux from the pixels "
                                 "near the reference level instead")
-        if previous and all(a.slices == b.slices and np.array_equal(a.mask, b.mask)
-                            for a, b in zip(previous, zones, strict=True)):
-            break
     for i, (bb, m) in und.items():
         valid = elements[i].mask[bb] & np.isfinite(q[bb]) & np.isfinite(area[bb])
         share = float(area[bb][m & valid].sum() / area[bb][valid].sum()) if valid.any() else 0.0
@@ -355,9 +389,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     # ---- quantify and build the defects
     u_rel_of = (lambda name: u_rel_std.get(name)) if isinstance(u_rel_std, dict) else (
         lambda name: u_rel_std)
-    in_view = np.bincount(labels[(labels >= 0) & np.isfinite(q) & np.isfinite(area)],
-                          weights=area[(labels >= 0) & np.isfinite(q) & np.isfinite(area)],
-                          minlength=n_el)
+    in_view = _label_sums(labels, labelled_q & np.isfinite(area), area, n_el)
     defects: list[Defect] = []
     leak_idx: list[int] = []
     leak_signal: list[float] = []
@@ -370,10 +402,11 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
         if info[g.members[0]]["change"] is not None:
             d.notes += pair_notes
         if d.defect_class == "air leakage" and info[g.members[0]]["change"] is not None:
-            cool = np.clip(t - aligned, 0.0, None)
-            zm = zone.full(shape) & np.isfinite(cool) & np.isfinite(area)
+            zs = zone.slices
+            cool = np.clip(t[zs] - aligned[zs], 0.0, None)
+            zm = zone.mask & np.isfinite(cool) & np.isfinite(area[zs])
             leak_idx.append(len(defects))
-            leak_signal.append(float(np.sum(cool[zm] * area[zm])))
+            leak_signal.append(float(np.sum(cool[zm] * area[zs][zm])))
         defects.append(d)
     air_notes: list[str] = []
     h_inf = None

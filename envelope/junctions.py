@@ -105,30 +105,48 @@ def junction_label(kind_a: str, kind_b: str) -> str:
     return _PAIR_LABELS.get(frozenset((a, b)), f"{a}–{b}")
 
 
-def _principal_direction(geom) -> tuple[float, float]:
-    """Unit vector of the dominant direction of a line geometry (x, y).
-
-    The eigenvector of the orientation tensor ``Σ l u uᵀ`` over its segments (length l,
-    unit direction u): short side pieces do not tilt a long straight edge.
-    """
+def _orientation_tensor(geom) -> np.ndarray:
+    """``Σ l u uᵀ`` over the segments of a line geometry (length l, unit direction u)."""
     tensor = np.zeros((2, 2))
     parts = getattr(geom, "geoms", [geom])
     for part in parts:
         pts = shapely.get_coordinates(part)
         if len(pts) < 2:
             continue
-        d = np.diff(pts, axis=0)
+        d = pts[1:] - pts[:-1]
         ln = np.hypot(d[:, 0], d[:, 1])
         keep = ln > 0
-        u = d[keep] / ln[keep, None]
-        tensor += (u * ln[keep, None]).T @ u
-    if not np.any(tensor):
-        return (1.0, 0.0)
-    w, v = np.linalg.eigh(tensor)
-    ux, uy = v[:, int(np.argmax(w))]
-    if ux < 0 or (ux == 0 and uy < 0):
-        ux, uy = -ux, -uy
-    return float(ux), float(uy)
+        if not keep.all():
+            d, ln = d[keep], ln[keep]
+        u = d / ln[:, None]
+        tensor += (u * ln[:, None]).T @ u
+    return tensor
+
+
+def _principal_directions(geoms) -> list[tuple[float, float]]:
+    """Unit vector of the dominant direction of each line geometry (x, y).
+
+    The eigenvector of the orientation tensor ``Σ l u uᵀ`` over its segments (length l,
+    unit direction u): short side pieces do not tilt a long straight edge. The tensors'
+    eigenvectors come from one stacked `numpy.linalg.eigh`.
+    """
+    tensors = np.array([_orientation_tensor(g) for g in geoms]).reshape(-1, 2, 2)
+    out = [(1.0, 0.0)] * len(tensors)
+    some = [i for i, t in enumerate(tensors) if t.any()]
+    if not some:
+        return out
+    w, v = np.linalg.eigh(tensors[some])
+    for i, wi, vi in zip(some, w, v, strict=True):
+        ux, uy = vi[:, int(np.argmax(wi))]
+        if ux < 0 or (ux == 0 and uy < 0):
+            ux, uy = -ux, -uy
+        out[i] = (float(ux), float(uy))
+    return out
+
+
+def _principal_direction(geom) -> tuple[float, float]:
+    """Unit vector of the dominant direction of a line geometry (x, y) (`_principal_directions`)."""
+    return _principal_directions([geom])[0]
 
 
 def _side(vec_x: float, vec_y: float) -> str:
@@ -197,12 +215,13 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
     reach_px = junction_m / s
     near_region = region_polygon.buffer(reach_px)
     cx, cy = region_polygon.centroid.x, region_polygon.centroid.y
-    out: list[Junction] = []
-    for other in others:
-        if other.name == element.name or getattr(other, "polygon_net", None) is None:
-            continue
-        onet = other.polygon_net
-        if onet.is_empty or onet.distance(region_polygon) > reach_px + tolerance_px:
+    neighbours = [o for o in others if o.name != element.name
+                  and getattr(o, "polygon_net", None) is not None and not o.polygon_net.is_empty]
+    onets = [o.polygon_net for o in neighbours]
+    close = ~(shapely.distance(onets, region_polygon) > reach_px + tolerance_px) if onets else []
+    found = []  # (name, kind, contact)
+    for other, onet, ok in zip(neighbours, onets, close, strict=True):
+        if not ok:
             continue
         shared = _shared_edge(poly_el, onet, float(tolerance_px))
         if shared.is_empty:
@@ -215,26 +234,21 @@ def find_junctions(region_polygon, element, others, pixel_m: float, junction_m: 
             oc = onet.centroid
             pos = {"below": "head", "above": "sill"}.get(_side(oc.x - cx, oc.y - cy), "jamb")
             kind = f"around opening ({pos})"
-        ux, uy = _principal_direction(contact)
-        out.append(Junction(
-            name=other.name, kind=kind,
-            distance_m=float(region_polygon.distance(contact)) * s,
-            direction="horizontal" if abs(ux) >= abs(uy) else "vertical",
-            contact_m=float(contact.length) * s, direction_px=(ux, uy)))
-    polys = tuple(o.polygon_net for o in others if o.name != element.name
-                  and getattr(o, "polygon_net", None) is not None and not o.polygon_net.is_empty)
-    free = _free_edge(poly_el, polys, float(tolerance_px))
+        found.append((other.name, kind, contact))
+    free = _free_edge(poly_el, tuple(onets), float(tolerance_px))
     edge = free.intersection(near_region) if not free.is_empty else free
     if not edge.is_empty and edge.length > 0:
-        ux, uy = _principal_direction(edge)
         ec = edge.centroid
         side = {"below": "bottom", "above": "top"}.get(_side(ec.x - cx, ec.y - cy),
                                                        _side(ec.x - cx, ec.y - cy))
+        found.append((f"edge:{side}", OUTLINE_EDGE, edge))
+    out: list[Junction] = []
+    for (name, kind, line), (ux, uy) in zip(
+            found, _principal_directions([c for _, _, c in found]), strict=True):
         out.append(Junction(
-            name=f"edge:{side}", kind=OUTLINE_EDGE,
-            distance_m=float(region_polygon.distance(edge)) * s,
+            name=name, kind=kind, distance_m=float(region_polygon.distance(line)) * s,
             direction="horizontal" if abs(ux) >= abs(uy) else "vertical",
-            contact_m=float(edge.length) * s, direction_px=(ux, uy)))
+            contact_m=float(line.length) * s, direction_px=(ux, uy)))
     out.sort(key=lambda j: (-j.contact_m, j.distance_m))
     return out
 
@@ -388,10 +402,19 @@ def junction_groups(regions, classes, junction_m: float, width_factor: float = 2
 
 
 # ------------------------------------------------------------ a bridge's run along its junction
+def _pixels(mask):
+    """Rows and columns of a full-frame mask's pixels, or of a `envelope.bridges.Zone`'s."""
+    if isinstance(mask, bridges.Zone):
+        rows, cols = np.nonzero(mask.mask)
+        return rows + mask.slices[0].start, cols + mask.slices[1].start
+    return bridges._nonzero(np.asarray(mask, bool))
+
+
 def span_along(mask, direction_px=(1.0, 0.0)) -> tuple[float, float, float, float]:
-    """``(ux, uy, lo, hi)``: unit direction and the span of a full-frame mask's pixels along it
-    [px], pixel edges included (half a pixel beyond the extreme centres)."""
-    rows, cols = bridges._nonzero(np.asarray(mask, bool))
+    """``(ux, uy, lo, hi)``: unit direction and the span of a full-frame mask's pixels (or a
+    `envelope.bridges.Zone`'s) along it [px], pixel edges included (half a pixel beyond the
+    extreme centres)."""
+    rows, cols = _pixels(mask)
     ux, uy = (float(v) for v in direction_px)
     n = math.hypot(ux, uy)
     if n == 0:
@@ -403,6 +426,15 @@ def span_along(mask, direction_px=(1.0, 0.0)) -> tuple[float, float, float, floa
     return ux, uy, float(proj.min()) - 0.5, float(proj.max()) + 0.5
 
 
+def _in_box(zone, box) -> np.ndarray:
+    """A `envelope.bridges.Zone`'s mask placed in the slices `box` that hold it."""
+    out = np.zeros((box[0].stop - box[0].start, box[1].stop - box[1].start), bool)
+    if zone.mask.size:
+        out[zone.slices[0].start - box[0].start:zone.slices[0].stop - box[0].start,
+            zone.slices[1].start - box[1].start:zone.slices[1].stop - box[1].start] = zone.mask
+    return out
+
+
 def extend_along(q_w_m2, area_map_m2, seed, labels, q_ref_w_m2, direction_px, valid=None,
                  q_sigma_w_m2=None, fraction: float = 0.5, window_m: float = 0.05,
                  noise_z: float = 2.0):
@@ -411,12 +443,12 @@ def extend_along(q_w_m2, area_map_m2, seed, labels, q_ref_w_m2, direction_px, va
     Parameters
     ----------
     q_w_m2, area_map_m2 : ndarray (H, W)
-    seed : bool (H, W)
+    seed : bool (H, W) or envelope.bridges.Zone
         The bridge's seed (its fragments and the gaps between them).
     labels, q_ref_w_m2 : as in `envelope.bridges.integration_zones`
     direction_px : (ux, uy)
         Direction of the junction in pixel coordinates.
-    valid : bool (H, W), optional
+    valid : bool (H, W) or envelope.bridges.Zone, optional
         Pixels the run may extend over (the bridge's elements).
     q_sigma_w_m2 : array_like, optional
         Pixel spread of q per element index [W/m²] (noise of the profile).
@@ -430,7 +462,8 @@ def extend_along(q_w_m2, area_map_m2, seed, labels, q_ref_w_m2, direction_px, va
     -------
     (span, band)
         ``span = (ux, uy, lo, hi)`` (`span_along` of the run) and ``band``, the pixels across
-        the seed's width over the whole run (bool (H, W)), which extend the seed.
+        the seed's width over the whole run, which extend the seed: bool (H, W), or a `Zone`
+        when the seed is one.
 
     Notes
     -----
@@ -439,40 +472,70 @@ def extend_along(q_w_m2, area_map_m2, seed, labels, q_ref_w_m2, direction_px, va
     of the seed's span the run extends while a window of `window_m` keeps a mean excess of
     at least ``max(fraction ē_seed, noise_z σ_ē)``: through a bridge that goes on but broke
     up under the threshold, not past a bridge's real end (where the excess drops within a
-    few centimetres).
+    few centimetres). Only the bounding box of the seed and the valid pixels is read.
     """
     q, a = bridges._check_maps(q_w_m2, area_map_m2)
-    seed = np.asarray(seed, bool)
+    shape = q.shape
+    boxed = isinstance(seed, bridges.Zone)
+    if not boxed:
+        seed = np.asarray(seed, bool)
     labels = bridges._int_labels(labels)
+
+    def unchanged():
+        if boxed:
+            return bridges.Zone(seed.slices, seed.mask.copy(), seed.distance_m, seed.stop,
+                                shape)
+        return seed.copy()
+
     ux, uy, lo, hi = span_along(seed, direction_px)
     if hi < lo:
-        return (ux, uy, lo, hi), seed.copy()
+        return (ux, uy, lo, hi), unchanged()
     nx, ny = -uy, ux
-    rows, cols = bridges._nonzero(seed)
+    rows, cols = _pixels(seed)
     across = (cols + 0.5) * nx + (rows + 0.5) * ny
     a_lo, a_hi = float(across.min()) - 0.5, float(across.max()) + 0.5
-    region = (labels >= 0) if valid is None else np.asarray(valid, bool)
-    box = bridges._box_of(region | seed)
-    region = region[box] | seed[box]
-    rr, cc = np.mgrid[box]
-    acr = (cc + 0.5) * nx + (rr + 0.5) * ny
+    if valid is None:
+        valid = labels >= 0
+    if isinstance(valid, bridges.Zone) or boxed:
+        zs = [z if isinstance(z, bridges.Zone) else bridges.Zone.from_full(z)
+              for z in (valid, seed)]
+        box = bridges.Zone.union_of(zs).slices
+        region = _in_box(zs[0], box) | _in_box(zs[1], box)
+    else:
+        valid = np.asarray(valid, bool)
+        box = bridges._box_of(valid | seed)
+        region = valid[box] | seed[box]
+    # the pixels across the seed's width: projections of the pixel centres, as
+    # ``(c + 0.5) n_x + (r + 0.5) n_y`` pixel by pixel
+    rows = np.arange(box[0].start, box[0].stop) + 0.5
+    cols = np.arange(box[1].start, box[1].stop) + 0.5
+    acr = (cols * nx)[None, :] + (rows * ny)[:, None]
+    across_ok = region & (acr >= a_lo) & (acr <= a_hi)
+    band_box = bridges._box_of(across_ok)
+    if band_box is None:
+        return (ux, uy, lo, hi), unchanged()
+    r0, c0 = box[0].start + band_box[0].start, box[1].start + band_box[1].start
+    sub = (slice(r0, r0 + band_box[0].stop - band_box[0].start),
+           slice(c0, c0 + band_box[1].stop - band_box[1].start))
+    q, a, labels = q[sub], a[sub], labels[sub]
+    ok = across_ok[band_box] & (labels >= 0) & np.isfinite(q) & np.isfinite(a)
+    rr, cc = np.nonzero(ok)
+    if not rr.size:
+        return (ux, uy, lo, hi), unchanged()
+    rr, cc = rr + r0, cc + c0
     alg = (cc + 0.5) * ux + (rr + 0.5) * uy
-    q, a, labels = q[box], a[box], labels[box]
-    ok = region & (labels >= 0) & np.isfinite(q) & np.isfinite(a) & (acr >= a_lo) & (acr <= a_hi)
     q_ref = np.asarray(q_ref_w_m2, dtype=float).ravel()
-    lab = np.where(labels >= 0, labels, 0)
-    exc = q - q_ref[lab]
-    base = float(np.floor(alg[ok].min())) if ok.any() else lo
+    lab, a_ok = labels[ok], a[ok]
+    exc = q[ok] - q_ref[lab]
+    base = float(np.floor(alg.min()))
     b = np.floor(alg - base).astype(np.int64)
-    nb = int(b[ok].max()) + 1 if ok.any() else 0
-    if nb == 0:
-        return (ux, uy, lo, hi), seed.copy()
-    s_a = np.bincount(b[ok], weights=a[ok], minlength=nb)
-    s_e = np.bincount(b[ok], weights=(exc * a)[ok], minlength=nb)
+    nb = int(b.max()) + 1
+    s_a = np.bincount(b, weights=a_ok, minlength=nb)
+    s_e = np.bincount(b, weights=exc * a_ok, minlength=nb)
     if q_sigma_w_m2 is not None:
         sg = np.asarray(q_sigma_w_m2, dtype=float).ravel()
         sgv = np.where(np.isfinite(sg), sg, 0.0)[lab]
-        s_v = np.bincount(b[ok], weights=(sgv**2 * a**2)[ok], minlength=nb)
+        s_v = np.bincount(b, weights=sgv**2 * a_ok**2, minlength=nb)
     else:
         s_v = np.zeros(nb)
     b_lo = max(int(np.floor(lo - base + 0.5)), 0)
@@ -480,8 +543,8 @@ def extend_along(q_w_m2, area_map_m2, seed, labels, q_ref_w_m2, direction_px, va
     a_seed = s_a[b_lo:b_hi + 1].sum()
     level = float(s_e[b_lo:b_hi + 1].sum() / a_seed) if a_seed > 0 else math.nan
     if not level > 0:
-        return (ux, uy, lo, hi), seed.copy()
-    pix = float(np.sqrt(np.nanmedian(a[ok])))
+        return (ux, uy, lo, hi), unchanged()
+    pix = float(np.sqrt(bridges.median(a_ok)))
     w = max(1, int(round(window_m / pix)))
 
     def keeps(i0: int, i1: int) -> bool:
@@ -499,8 +562,15 @@ def extend_along(q_w_m2, area_map_m2, seed, labels, q_ref_w_m2, direction_px, va
     while down - 1 >= 0 and keeps(down - w, down):
         down -= 1
     lo2, hi2 = base + down, base + up + 1
-    band = seed.copy()
-    band[box] |= ok & (alg >= lo2) & (alg <= hi2)
+    run = (alg >= lo2) & (alg <= hi2)
+    if boxed:
+        band = _in_box(seed, box)
+        band[rr[run] - box[0].start, cc[run] - box[1].start] = True
+        band = bridges.Zone.from_box(box, band, seed.distance_m, seed.stop)
+        band.frame_shape = shape
+    else:
+        band = seed.copy()
+        band[rr[run], cc[run]] = True
     return (ux, uy, min(lo, lo2), max(hi, hi2)), band
 
 

@@ -25,6 +25,7 @@ __all__ = [
     "Defect",
     "Group",
     "full_mask",
+    "region_zone",
     "judge_risk",
     "build_defect",
     "apply_leak_air",
@@ -154,6 +155,11 @@ def full_mask(region: Region, shape) -> np.ndarray:
     return m
 
 
+def region_zone(region: Region, shape) -> bridges.Zone:
+    """A region's pixels as a `envelope.bridges.Zone` (its mask inside its slices)."""
+    return bridges.Zone(region.slices, region.mask, frame_shape=shape)
+
+
 def _stats(values) -> tuple[float, float]:
     v = np.asarray(values, float)
     v = v[np.isfinite(v)]
@@ -241,10 +247,10 @@ def build_defect(g, zone, cold, info, elements, q, area, labels, q_ref, q_sig, n
     psi = ex["extra_w"] / (dt * length) if linear and length > 0 else None
     psi_std = ex["extra_w_std"] / (dt * length) if psi is not None else None
     chi = None if linear else ex["extra_w"] / dt
-    cold_px = np.zeros(shape, bool)
-    for r in members:
-        cold_px[r.slices] |= r.mask
-    risk, judged, fmin, fp05, dmin, dp05, rnote = judge_risk(cold_px, f, fd, limits, side)
+    cold_px = bridges.Zone.union_of([region_zone(r, shape) for r in members], shape)
+    box = cold_px.slices
+    risk, judged, fmin, fp05, dmin, dp05, rnote = judge_risk(
+        cold_px.mask, f[box], None if fd is None else fd[box], limits, side)
     if rnote:
         notes.append(rnote)
     jkind = None if junction is None or junction.kind == OUTLINE_EDGE else junction.kind
