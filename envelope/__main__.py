@@ -1,6 +1,6 @@
 """``python -m envelope``: the same command line as the ``envelope`` script."""
 
-from envelope.cli import app
+from envelope.cli import main
 
 if __name__ == "__main__":
-    app(prog_name="envelope")
+    main()
