@@ -424,6 +424,7 @@ def check_view_readings(readings_c, thermogram, conditions, camera, name: str) -
     SurveyError
     """
     img = np.asarray(readings_c)
+    _check_marked_pixels(img.shape, thermogram, name)
     finite = img[np.isfinite(img)]
     if finite.size == 0:
         return
@@ -472,6 +473,31 @@ def check_view_readings(readings_c, thermogram, conditions, camera, name: str) -
                               f"apart (a camera is off by a few kelvin at most): {fix}, and the "
                               "probe's pixel_xy and surface_c", name,
                               f"thermograms[{getattr(thermogram, 'id', '?')}].probes[{i}]")
+
+
+def _check_marked_pixels(shape, thermogram, name: str) -> None:
+    """Refuse reference points, tapes and a heat-flux-meter spot marked outside the image
+    (a typo, or the pixels of another export size): they would be dropped or extrapolated."""
+    h, w = shape[:2]
+    tid = getattr(thermogram, "id", "?")
+    marks = []
+    rp = getattr(thermogram, "reference_points", None)
+    if rp is not None:
+        marks += [(f"reference_points.pixel_xy[{i}]", xy) for i, xy in enumerate(rp.pixel_xy)]
+    for i, tape in enumerate(getattr(thermogram, "tapes", ())):
+        marks += [(f"tapes[{i}].pixel_xy", tape.pixel_xy),
+                  (f"tapes[{i}].surface_pixel_xy", tape.surface_pixel_xy)]
+    meter = getattr(thermogram, "heat_flux_meter", None)
+    if meter is not None:
+        marks.append(("heat_flux_meter.pixel_xy", meter.pixel_xy))
+    for key, xy in marks:
+        x, y = xy
+        if not (math.isfinite(x) and math.isfinite(y)):
+            continue
+        if not (-1.0 <= x <= w + 1.0 and -1.0 <= y <= h + 1.0):
+            raise SurveyError(f"pixel [{x:g}, {y:g}] lies outside the {w} × {h} px image; mark "
+                              "it on the thermogram (x to the right, y down)", name,
+                              f"thermograms[{tid}].{key}")
 
 
 # --------------------------------------------------------------------------- air log

@@ -360,8 +360,10 @@ def _slow_run(tmp_path):
     head = SURVEY_TOML[: SURVEY_TOML.index("[[thermograms]]")]
     block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
     root = write_survey(tmp_path / "s", head + block.replace('id = "room-north"', 'id = "a"')
-                        + block.replace('id = "room-north"', 'id = "b"'))
+                        + block.replace('id = "room-north"', 'id = "b"')
+                        .replace("thermograms/room-north.npy", "thermograms/b.npy"))
     np.save(root / "thermograms" / "room-north.npy", readings(seed=3))
+    np.save(root / "thermograms" / "b.npy", readings(seed=4))  # each view its own export
     proc = subprocess.Popen([sys.executable, "-m", "envelope.cli", "assess", str(root), "--out",
                              str(tmp_path / "out"), "--quiet", "--draws", "1000000"],
                             env=dict(os.environ, MPLBACKEND="Agg"),
