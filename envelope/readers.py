@@ -391,8 +391,19 @@ def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.nda
                           f"(\"K\" for kelvin) in {_EXPORT_TABLE}", name)
     lo, hi = float(np.nanmin(img)), float(np.nanmax(img))
     if lo < PLAUSIBLE_C[0] or hi > PLAUSIBLE_C[1]:
+        outside = (img < PLAUSIBLE_C[0]) | (img > PLAUSIBLE_C[1])
+        n_out = int(outside.sum())
+        if -40.0 <= med <= 60.0 and n_out < 0.1 * finite.sum():
+            extreme = f"down to {lo:.6g}" if lo < PLAUSIBLE_C[0] else f"up to {hi:.6g}"
+            raise SurveyError(f"{n_out} pixel{'s' if n_out > 1 else ''} read outside "
+                              f"{PLAUSIBLE_C[0]:g}…{PLAUSIBLE_C[1]:g} °C ({extreme}) while the "
+                              "rest look right: a no-data value for invalid pixels? Export them "
+                              "as NaN (an empty cell or 'nan' in a text grid)", name)
+        kelvin = (f" (a median of {med:.6g} read as °{unit or 'C'} looks like kelvin: the file "
+                  "or the survey declares the wrong unit)" if unit != "K" and 200.0 <= med <= 400.0
+                  else "")
         raise SurveyError(f"readings span {lo:.1f}…{hi:.1f} °C, outside {PLAUSIBLE_C[0]:g}…"
-                          f"{PLAUSIBLE_C[1]:g} °C; check `unit`, `scale` and `offset` in "
+                          f"{PLAUSIBLE_C[1]:g} °C{kelvin}; check `unit`, `scale` and `offset` in "
                           f"{_EXPORT_TABLE}", name)
     return img
 

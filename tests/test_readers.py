@@ -351,3 +351,16 @@ def test_air_log_across_midnight_in_either_order(tmp_path):
         (tmp_path / "log.csv").write_text(_log(order))
         df = load_air_log(tmp_path / "log.csv")
         assert df["hours"].tolist() == [0.5 * i for i in range(10)]
+
+
+def test_no_data_value_among_good_readings_is_named(tmp_path):
+    v = grid().astype(np.float32)
+    v[::5, ::5] = -9999.0  # a camera's no-data value where NaN belongs
+    tifffile.imwrite(tmp_path / "s.tif", v)
+    _refused(tmp_path / "s.tif", "pixels read outside -60…200 °C (down to -9999) while the rest "
+                                 "look right: a no-data value for invalid pixels?")
+
+
+def test_kelvin_under_a_celsius_header_is_named(tmp_path):
+    path = write_export(tmp_path / "k.csv", grid() + 273.15, Dialect(delim=";", header=["Unit: °C"]))
+    _refused(path, "read as °C looks like kelvin: the file or the survey declares the wrong unit")
