@@ -517,8 +517,9 @@ def _thermograms(top: _Table, root: Path, elements: dict, conditions: Conditions
             elements=t.names("elements", elements),
         ))
         tg = out[-1]
+        sunlit = tg.hours_since_sun is not None and tg.hours_since_sun < 2.0
         for key in ("reflected_c", "mrt_c"):
-            _near_the_air(t, key, getattr(tg, key), tg.side, conditions)
+            _near_the_air(t, key, getattr(tg, key), tg.side, conditions, sunlit)
         if tg.file is not None:
             try:
                 real = str(tg.file.resolve())
@@ -542,12 +543,13 @@ MAX_DISTANCE_M = 200.0
 """Farthest camera distance [m] (a drone flies at 120 m at most in many countries)."""
 
 
-def _near_the_air(t: _Table, key: str, value, side: str, c: Conditions) -> None:
-    """Refuse a reflected or radiant temperature that no night survey can have (a typo)."""
+def _near_the_air(t: _Table, key: str, value, side: str, c: Conditions, sunlit: bool) -> None:
+    """Refuse a reflected or radiant temperature that no night survey can have (a typo); an
+    exterior view with sun in the last 2 h may reflect warm sunlit surroundings."""
     if value is None or not math.isfinite(value) or side not in SIDES:
         return
     air, where = ((c.indoor_air_c, "indoor") if side == "interior" else (c.outdoor_air_c, "outdoor"))
-    if math.isfinite(air) and value > air + REFLECTED_OFF_AIR_K:
+    if math.isfinite(air) and value > air + REFLECTED_OFF_AIR_K and not (sunlit and side == "exterior"):
         raise t.err(key, f"{value:g} °C is {value - air:.0f} K above the {where} air ({air:g} °C) "
                          f"for an {side} view: the surroundings a surface reflects at night are "
                          "near or below the air (a typo? a heater in view: move the camera)")
