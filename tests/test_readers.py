@@ -364,3 +364,23 @@ def test_no_data_value_among_good_readings_is_named(tmp_path):
 def test_kelvin_under_a_celsius_header_is_named(tmp_path):
     path = write_export(tmp_path / "k.csv", grid() + 273.15, Dialect(delim=";", header=["Unit: °C"]))
     _refused(path, "read as °C looks like kelvin: the file or the survey declares the wrong unit")
+
+
+def test_series_frame_in_fahrenheit_is_refused_like_its_view(tmp_path):
+    import shutil
+    from pathlib import Path
+
+    from envelope.survey import load_survey
+    from envelope.views import SurveyFolder
+
+    house = tmp_path / "house"
+    shutil.copytree(Path(__file__).resolve().parents[1] / "example_house", house)
+    frame = house / "series" / "frames" / "study-south-01.tif"
+    tifffile.imwrite(frame, tifffile.imread(frame) * 1.8 + 32.0)
+    s = load_survey(house)
+    data = SurveyFolder(s).open_series(s.series[0])
+    with pytest.raises(SurveyError) as err:
+        for _ in data.frames():
+            pass
+    assert err.value.file == "series/frames/study-south-01.tif"
+    assert 'readings in °F? then set `unit = "F"`' in err.value.detail
