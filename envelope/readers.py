@@ -401,7 +401,9 @@ def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.nda
                               "as NaN (an empty cell or 'nan' in a text grid)", name)
         kelvin = (f" (a median of {med:.6g} read as °{unit or 'C'} looks like kelvin: the file "
                   "or the survey declares the wrong unit)" if unit != "K" and 200.0 <= med <= 400.0
-                  else "")
+                  else f" (read as kelvin, the values look like °C: a median of {med + T0_K:.6g}; "
+                  "the file or the survey declares the wrong unit)"
+                  if unit == "K" and scale is None and -40.0 <= med + T0_K <= 60.0 else "")
         raise SurveyError(f"readings span {lo:.1f}…{hi:.1f} °C, outside {PLAUSIBLE_C[0]:g}…"
                           f"{PLAUSIBLE_C[1]:g} °C{kelvin}; check `unit`, `scale` and `offset` in "
                           f"{_EXPORT_TABLE}", name)

@@ -384,3 +384,8 @@ def test_series_frame_in_fahrenheit_is_refused_like_its_view(tmp_path):
             pass
     assert err.value.file == "series/frames/study-south-01.tif"
     assert 'readings in °F? then set `unit = "F"`' in err.value.detail
+
+
+def test_celsius_under_a_kelvin_header_is_named(tmp_path):
+    path = write_export(tmp_path / "c.csv", grid(), Dialect(delim=";", header=["Unit: K"]))
+    _refused(path, "read as kelvin, the values look like °C")
