@@ -313,7 +313,8 @@ def correct(
     metric_cm: Annotated[float | None, typer.Option("--metric-cm", min=0.1, max=100.0, help="Also write each image resampled onto the element plane at this grid step [cm per pixel], 0.1 to 100. Default: not written.", show_default=False)] = None,
 ):
     """Write the corrected surface-temperature image [°C, float32 TIFF] of every thermogram
-    (and, with --metric-cm, the same resampled onto a metric grid on the element plane)."""
+    (and, with --metric-cm, the same resampled onto a metric grid on the element plane).
+    Exit 3 when some thermograms failed: the others are written, the failures listed."""
     import numpy as np
     import tifffile
 
@@ -324,14 +325,23 @@ def correct(
 
     _warn_to_stderr(quiet)
     notes: list[str] = []
+    failed: list[dict] = []
     with guarded() as interrupts:
         s = _load(survey)
         with staged_folder(out, replace, inputs=_input_folders(s), command="correct",
                            hold=interrupts.hold, notes=notes) as tmp:
             index = []
             for t in s.thermograms:
-                cor = correct_view(SurveyFolder(s).open_view(t), s.elements, s.camera,
-                                   s.conditions, s.file.name)
+                try:  # one broken view is listed, the others are still written
+                    cor = correct_view(SurveyFolder(s).open_view(t), s.elements, s.camera,
+                                       s.conditions, s.file.name)
+                    if metric_cm is not None:
+                        from .geometry import rectify
+
+                        rec = rectify(cor.object_c, cor.homography, metric_cm)
+                except SurveyError as exc:
+                    failed.append({"id": t.id, "error": str(exc)})
+                    continue
                 name = f"{t.id}-surface-c.tif"
                 tifffile.imwrite(inside(tmp, name), cor.object_c.astype(np.float32),
                                  compression="zlib", metadata=None)
@@ -339,9 +349,6 @@ def correct(
                          "transmittance": float(cor.transmittance),
                          "camera_offset_k": cor.offset.value_k, "unit": "°C"}
                 if metric_cm is not None:
-                    from .geometry import rectify
-
-                    rec = rectify(cor.object_c, cor.homography, metric_cm)
                     metric_name = f"{t.id}-metric-c.tif"
                     tifffile.imwrite(inside(tmp, metric_name), rec.image.astype(np.float32),
                                      compression="zlib", metadata=None)
@@ -351,11 +358,23 @@ def correct(
                 index.append(entry)
                 if not quiet:
                     typer.echo(f"corrected {_t(t.id)}  (τ = {cor.transmittance:.4f})", err=True)
-            (tmp / "corrected.json").write_text(json.dumps(index, indent=2, sort_keys=True) + "\n")
+            if not index:
+                raise SurveyError("no thermogram could be corrected: " + "; ".join(
+                    f["error"] for f in failed))
+            (tmp / "corrected.json").write_text(json.dumps(index + [
+                {"id": f["id"], "failed": f["error"]} for f in failed], indent=2,
+                sort_keys=True) + "\n")
     for note in notes:
         typer.echo(f"envelope: note: {terminal_text(note, MAX_MESSAGE_CHARS)}", err=True)
     if not quiet:
-        typer.echo(f"wrote {len(index)} corrected images to {_t(out, 300)}")
+        for f in failed:
+            typer.echo(f"envelope: not corrected: {_t(f['id'])}: "
+                       f"{terminal_text(f['error'], MAX_MESSAGE_CHARS)}", err=True)
+        typer.echo(f"wrote {len(index)} corrected images to {_t(out, 300)}"
+                   + (f"; {len(failed)} thermogram{'s' if len(failed) > 1 else ''} failed "
+                      "(listed above and in corrected.json)" if failed else ""))
+    if failed:
+        raise typer.Exit(EXIT_PARTIAL)
 
 
 @app.command()

@@ -165,7 +165,7 @@ def _file(t: _Table, key: str, root: Path, suffixes: tuple[str, ...]) -> Path | 
     full = root / p
     try:
         if not full.exists() and not full.is_symlink():
-            raise t.err(key, f"file not found: {_short(rel)}")
+            raise t.err(key, f"file not found: {_short(rel)}{_path_hint(root, rel)}")
         real = full.resolve(strict=True)
         if not real.is_relative_to(root.resolve()):
             raise t.err(key, f"{_short(rel)} leads outside the survey folder (a symbolic "
@@ -175,6 +175,25 @@ def _file(t: _Table, key: str, root: Path, suffixes: tuple[str, ...]) -> Path | 
     except OSError as exc:
         raise t.err(key, f"cannot read {_short(rel)} ({exc.strerror or type(exc).__name__})") from None
     return full
+
+
+def _path_hint(root: Path, rel: str) -> str:
+    """How a path that is not found may have been meant: '/' for '\\', or the letter case
+    of a file that is there."""
+    if "\\" in rel:
+        return "; separate folders with '/' (thermograms/view.tif), not '\\'"
+    folder, want = root, Path(rel).parts
+    for part in want:
+        try:
+            names = {c.name.casefold(): c.name for c in folder.iterdir()} if folder.is_dir() else {}
+        except OSError:
+            return ""
+        found = names.get(part.casefold())
+        if found is None:
+            return ""
+        folder = folder / found
+    got = folder.relative_to(root).as_posix()
+    return f"; did you mean {_short(got)}? (letter case matters)" if got != rel else ""
 
 
 def _rel(path: Path, base: Path) -> str:
@@ -294,7 +313,7 @@ def _survey(data, root: Path, file: Path, fname: str, todo: list) -> Survey:
     )
 
     elements = _elements(top, todo)
-    thermograms = _thermograms(top, root, elements, conditions.time)
+    thermograms = _thermograms(top, root, elements, conditions)
     ids = {t.id for t in thermograms}
     pairs = []
     for t in top.array("pressure_pairs", _KEYS["pressure_pairs"]):
@@ -408,6 +427,11 @@ def _elements(top: _Table, todo: list) -> dict:
             t.str("u_specified_basis", "environmental", U_BASES),
         )
     for t, e in zip(tables, elements.values(), strict=True):
+        if e.kind == "wall" and math.isfinite(e.tilt_deg) and not 45.0 <= e.tilt_deg <= 135.0:
+            rad = " (in radians? 90° is 1.571 rad)" if 0.0 < e.tilt_deg <= math.pi else ""
+            raise t.err("tilt_deg", f"a wall stands near 90° from horizontal, got "
+                                    f"{e.tilt_deg:g}°{rad}; a surface near 0° is a roof, floor "
+                                    "or ceiling: set `kind`")
         if e.host is not None:
             if e.host == e.name:
                 raise t.err("host", "an element cannot be hosted by itself")
@@ -436,11 +460,11 @@ def _emissivity(t: _Table, key, default):
     return v
 
 
-def _thermograms(top: _Table, root: Path, elements: dict, default_time) -> list[Thermogram]:
+def _thermograms(top: _Table, root: Path, elements: dict, conditions: Conditions) -> list[Thermogram]:
     tables = top.array("thermograms", _KEYS["thermograms"])
     if not tables:
         top.todo.append("thermograms (at least one [[thermograms]] table)")
-    out, seen, folded = [], set(), {}
+    out, seen, folded, files = [], set(), {}, {}
     for i, t in enumerate(tables):
         tid = t.ident("id") or f"(thermograms[{i}])"
         if tid in seen:
@@ -452,14 +476,14 @@ def _thermograms(top: _Table, root: Path, elements: dict, default_time) -> list[
         rp = t.sub("reference_points", _KEYS["thermograms.reference_points"], None)
         ref = None
         if rp is not None:
-            ref = ReferencePoints(rp.points("pixel_xy", "px"), rp.points("metre_xy", "m"))
+            ref = ReferencePoints(rp.points("pixel_xy", "px"), _metres(rp, "metre_xy"))
             if len(ref.pixel_xy) != len(ref.metre_xy):
                 raise rp.err("metre_xy", f"expected as many points as pixel_xy ({len(ref.pixel_xy)}), got {len(ref.metre_xy)}")
         kl = t.sub("known_length", _KEYS["thermograms.known_length"], None)
         known = None
         if kl is not None:
             known = KnownLength(kl.point("pixel_a"), kl.point("pixel_b"),
-                                kl.num("length_m", lo=0, hi=1000, unit="m", lo_open=True))
+                                kl.num("length_m", lo=0, hi=MAX_PLANE_M, unit="m", lo_open=True))
             if known.pixel_a == known.pixel_b:
                 raise kl.err("pixel_b", "expected a point other than pixel_a")
         probes = tuple(Probe(p.point("pixel_xy"), p.num("surface_c", lo=-60, hi=200, unit="°C"),
@@ -480,7 +504,7 @@ def _thermograms(top: _Table, root: Path, elements: dict, default_time) -> list[
             emissivity_default=_emissivity(t, "emissivity", None),
             emissivity_uncertainty=t.num("emissivity_uncertainty", 0.02, 0, 0.5, "-"),
             emissivity_by_element=eps_by,
-            distance_m=t.num("distance_m", 3.0, 0, 2000, "m", lo_open=True),
+            distance_m=t.num("distance_m", 3.0, 0, MAX_DISTANCE_M, "m", lo_open=True),
             transmittance=t.num("transmittance", None, 0, 1, "-", lo_open=True),
             atmosphere_c=t.num("atmosphere_c", None, -60, 60, "°C"),
             view_angle_deg=t.num("view_angle_deg", 0.0, 0, 90, "deg"),
@@ -488,11 +512,62 @@ def _thermograms(top: _Table, root: Path, elements: dict, default_time) -> list[
             export=_export(t.sub("export", _KEYS["thermograms.export"], {})),
             reference_points=ref, known_length=known, probes=probes, tapes=tapes,
             reflected_by_camera=t.bool("reflected_by_camera", False),
-            time=t.hhmm("time") or default_time, mrt_c=t.num("mrt_c", None, -80, 200, "°C"),
+            time=t.hhmm("time") or conditions.time, mrt_c=t.num("mrt_c", None, -80, 200, "°C"),
             mrt_std_k=t.num("mrt_std_k", None, 0, 30, "K", lo_open=True), heat_flux_meter=meter,
             elements=t.names("elements", elements),
         ))
+        tg = out[-1]
+        sunlit = tg.hours_since_sun is not None and tg.hours_since_sun < 2.0
+        for key in ("reflected_c", "mrt_c"):
+            _near_the_air(t, key, getattr(tg, key), tg.side, conditions, sunlit)
+        if tg.file is not None:
+            try:
+                real = str(tg.file.resolve())
+            except (OSError, RuntimeError):
+                real = str(tg.file)
+            if real in files:
+                raise t.err("file", f"the same pixel file as thermogram {_short(files[real])}; "
+                                    "each view has its own export (a copied table?)")
+            files[real] = tid
     return out
+
+
+REFLECTED_OFF_AIR_K = 15.0
+"""How far [K] a view's reflected (or mean radiant) temperature may lie above the air on its
+side (indoor for an interior view, outdoor for an exterior one), or below the outdoor air for
+an interior view, before it is taken for a slip (ours: a room reflects its own walls, a night
+façade the sky and the street, both colder)."""
+MAX_PLANE_M = 100.0
+"""Largest coordinate or length on an element plane [m] (a house wall is a few metres)."""
+MAX_DISTANCE_M = 200.0
+"""Farthest camera distance [m] (a drone flies at 120 m at most in many countries)."""
+
+
+def _near_the_air(t: _Table, key: str, value, side: str, c: Conditions, sunlit: bool) -> None:
+    """Refuse a reflected or radiant temperature that no night survey can have (a typo); an
+    exterior view with sun in the last 2 h may reflect warm sunlit surroundings."""
+    if value is None or not math.isfinite(value) or side not in SIDES:
+        return
+    air, where = ((c.indoor_air_c, "indoor") if side == "interior" else (c.outdoor_air_c, "outdoor"))
+    if math.isfinite(air) and value > air + REFLECTED_OFF_AIR_K and not (sunlit and side == "exterior"):
+        raise t.err(key, f"{value:g} °C is {value - air:.0f} K above the {where} air ({air:g} °C) "
+                         f"for an {side} view: the surroundings a surface reflects at night are "
+                         "near or below the air (a typo? a heater in view: move the camera)")
+    t_e = c.outdoor_air_c
+    if side == "interior" and math.isfinite(t_e) and value < t_e - REFLECTED_OFF_AIR_K:
+        raise t.err(key, f"{value:g} °C is {t_e - value:.0f} K below the outdoor air ({t_e:g} °C) "
+                         "for an interior view: a room's surroundings are warmer than outdoors "
+                         "(a typo?)")
+
+
+def _metres(t: _Table, key: str):
+    """Points on an element plane [m]: refused beyond `MAX_PLANE_M` (mm or cm by mistake)."""
+    pts = t.points(key, "m")
+    far = max((abs(c) for p in pts for c in p), default=0.0)
+    if far > MAX_PLANE_M:
+        raise t.err(key, f"expected metres on the element plane, within ±{MAX_PLANE_M:g} m (a "
+                         f"wall is a few metres); {far:g} looks like millimetres or centimetres")
+    return pts
 
 
 def _export(ex: _Table) -> ExportSettings:

@@ -391,8 +391,21 @@ def _to_celsius(values, integer: bool, unit, scale, offset, name: str) -> np.nda
                           f"(\"K\" for kelvin) in {_EXPORT_TABLE}", name)
     lo, hi = float(np.nanmin(img)), float(np.nanmax(img))
     if lo < PLAUSIBLE_C[0] or hi > PLAUSIBLE_C[1]:
+        outside = (img < PLAUSIBLE_C[0]) | (img > PLAUSIBLE_C[1])
+        n_out = int(outside.sum())
+        if -40.0 <= med <= 60.0 and n_out < 0.1 * finite.sum():
+            extreme = f"down to {lo:.6g}" if lo < PLAUSIBLE_C[0] else f"up to {hi:.6g}"
+            raise SurveyError(f"{n_out} pixel{'s' if n_out > 1 else ''} read outside "
+                              f"{PLAUSIBLE_C[0]:g}…{PLAUSIBLE_C[1]:g} °C ({extreme}) while the "
+                              "rest look right: a no-data value for invalid pixels? Export them "
+                              "as NaN (an empty cell or 'nan' in a text grid)", name)
+        kelvin = (f" (a median of {med:.6g} read as °{unit or 'C'} looks like kelvin: the file "
+                  "or the survey declares the wrong unit)" if unit != "K" and 200.0 <= med <= 400.0
+                  else f" (read as kelvin, the values look like °C: a median of {med + T0_K:.6g}; "
+                  "the file or the survey declares the wrong unit)"
+                  if unit == "K" and scale is None and -40.0 <= med + T0_K <= 60.0 else "")
         raise SurveyError(f"readings span {lo:.1f}…{hi:.1f} °C, outside {PLAUSIBLE_C[0]:g}…"
-                          f"{PLAUSIBLE_C[1]:g} °C; check `unit`, `scale` and `offset` in "
+                          f"{PLAUSIBLE_C[1]:g} °C{kelvin}; check `unit`, `scale` and `offset` in "
                           f"{_EXPORT_TABLE}", name)
     return img
 
@@ -424,6 +437,7 @@ def check_view_readings(readings_c, thermogram, conditions, camera, name: str) -
     SurveyError
     """
     img = np.asarray(readings_c)
+    _check_marked_pixels(img.shape, thermogram, name)
     finite = img[np.isfinite(img)]
     if finite.size == 0:
         return
@@ -472,6 +486,31 @@ def check_view_readings(readings_c, thermogram, conditions, camera, name: str) -
                               f"apart (a camera is off by a few kelvin at most): {fix}, and the "
                               "probe's pixel_xy and surface_c", name,
                               f"thermograms[{getattr(thermogram, 'id', '?')}].probes[{i}]")
+
+
+def _check_marked_pixels(shape, thermogram, name: str) -> None:
+    """Refuse reference points, tapes and a heat-flux-meter spot marked outside the image
+    (a typo, or the pixels of another export size): they would be dropped or extrapolated."""
+    h, w = shape[:2]
+    tid = getattr(thermogram, "id", "?")
+    marks = []
+    rp = getattr(thermogram, "reference_points", None)
+    if rp is not None:
+        marks += [(f"reference_points.pixel_xy[{i}]", xy) for i, xy in enumerate(rp.pixel_xy)]
+    for i, tape in enumerate(getattr(thermogram, "tapes", ())):
+        marks += [(f"tapes[{i}].pixel_xy", tape.pixel_xy),
+                  (f"tapes[{i}].surface_pixel_xy", tape.surface_pixel_xy)]
+    meter = getattr(thermogram, "heat_flux_meter", None)
+    if meter is not None:
+        marks.append(("heat_flux_meter.pixel_xy", meter.pixel_xy))
+    for key, xy in marks:
+        x, y = xy
+        if not (math.isfinite(x) and math.isfinite(y)):
+            continue
+        if not (-1.0 <= x <= w + 1.0 and -1.0 <= y <= h + 1.0):
+            raise SurveyError(f"pixel [{x:g}, {y:g}] lies outside the {w} × {h} px image; mark "
+                              "it on the thermogram (x to the right, y down)", name,
+                              f"thermograms[{tid}].{key}")
 
 
 # --------------------------------------------------------------------------- air log

@@ -130,7 +130,7 @@ class Table:
         if not given:
             return v
         if isinstance(v, bool) or not isinstance(v, int):
-            raise self.err(key, f"expected a whole number, got {_short(v)}")
+            raise self.err(key, f"expected a whole number, got {_short(v)}{_text_hint(v, '', hi)}")
         if v < lo or v > hi:
             raise self.err(key, f"expected a whole number in [{lo}, {hi}], got {v}")
         return v
@@ -294,6 +294,10 @@ def _range_hint(v: float, lo: float, hi: float, unit: str) -> str:
         c = (v - 32.0) * 5.0 / 9.0
         if lo <= c <= hi:
             return f" — was it given in °F? {v:g} °F is {c:.1f} °C"
+    if u == "m" and v > hi:
+        for div, name in ((100.0, "centimetres"), (1000.0, "millimetres")):
+            if lo < v / div <= hi:
+                return f" — was it given in {name}? {v:g} {name[0]}m is {v / div:g} m"
     if u == "-" and max(hi, 5.0) <= v <= 100.0 and lo <= v / 100.0 <= hi:
         return f" — was it given in percent? write {v / 100.0:g}"
     return ""

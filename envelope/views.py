@@ -11,6 +11,7 @@ Both satisfy the `ViewSource` protocol that `envelope.assess.assess_survey` take
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Iterator, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -135,11 +136,17 @@ class SurveyFolder:
                                   f"frame (row {i + 2})")
             paths.append(path)
         labels = tuple(p.relative_to(root).as_posix() for p in paths)
-        export = self.survey.thermogram(series.thermogram).export
+        tg = self.survey.thermogram(series.thermogram)
+        export = tg.export
+        # a frame is checked against the night as its view is (its probes were read once)
+        plain = dataclasses.replace(tg, probes=())
+        survey = self.survey
 
         def frames() -> Iterator[np.ndarray]:
             for path, flabel in zip(paths, labels, strict=True):
-                yield load_pixels(path, flabel, export)
+                img = load_pixels(path, flabel, export)
+                check_view_readings(img, plain, survey.conditions, survey.camera, flabel)
+                yield img
 
         refl = rows["reflected_c"].to_numpy(float) if "reflected_c" in rows else None
         return SeriesData(series, rows["hours"].to_numpy(float),

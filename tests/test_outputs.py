@@ -360,8 +360,10 @@ def _slow_run(tmp_path):
     head = SURVEY_TOML[: SURVEY_TOML.index("[[thermograms]]")]
     block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
     root = write_survey(tmp_path / "s", head + block.replace('id = "room-north"', 'id = "a"')
-                        + block.replace('id = "room-north"', 'id = "b"'))
+                        + block.replace('id = "room-north"', 'id = "b"')
+                        .replace("thermograms/room-north.npy", "thermograms/b.npy"))
     np.save(root / "thermograms" / "room-north.npy", readings(seed=3))
+    np.save(root / "thermograms" / "b.npy", readings(seed=4))  # each view its own export
     proc = subprocess.Popen([sys.executable, "-m", "envelope.cli", "assess", str(root), "--out",
                              str(tmp_path / "out"), "--quiet", "--draws", "1000000"],
                             env=dict(os.environ, MPLBACKEND="Agg"),
@@ -575,3 +577,22 @@ def test_rerender_never_overwrites_a_report_the_user_changed(assessed, tmp_path)
     (out / "summary.html").write_text("my own summary\n")
     line = _rerender_refused(out, tmp_path)
     assert f"{out / 'summary.html'}: not overwritten" in line
+
+
+def test_correct_with_one_broken_view_writes_the_others_and_exits_3(tmp_path):
+    """SPEC §6: one broken thermogram does not lose the others; `correct` like `assess`."""
+    head = SURVEY_TOML[: SURVEY_TOML.index("[[thermograms]]")]
+    block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
+    root = write_survey(tmp_path / "survey", head + block + block.replace(
+        'id = "room-north"', 'id = "room-south"').replace("room-north.npy", "room-south.npy"))
+    np.save(root / "thermograms" / "room-south.npy", readings(seed=2) * 1.8 + 32.0)  # °F
+    inputs = digest(root)
+    out = tmp_path / "out"
+    res = cli("correct", root, "--out", out)
+    assert res.exit_code == 3, res.output
+    assert "envelope: not corrected: room-south: thermograms/room-south.npy: the median reading" in res.output
+    index = json.loads((out / "corrected.json").read_text())
+    assert [e["id"] for e in index] == ["room-north", "room-south"]
+    assert index[0]["file"] == "room-north-surface-c.tif" and "failed" in index[1]
+    assert (out / "room-north-surface-c.tif").is_file() and not (out / "room-south-surface-c.tif").exists()
+    assert digest(root) == inputs and names(tmp_path) == ["out", "survey"]

@@ -351,3 +351,41 @@ def test_air_log_across_midnight_in_either_order(tmp_path):
         (tmp_path / "log.csv").write_text(_log(order))
         df = load_air_log(tmp_path / "log.csv")
         assert df["hours"].tolist() == [0.5 * i for i in range(10)]
+
+
+def test_no_data_value_among_good_readings_is_named(tmp_path):
+    v = grid().astype(np.float32)
+    v[::5, ::5] = -9999.0  # a camera's no-data value where NaN belongs
+    tifffile.imwrite(tmp_path / "s.tif", v)
+    _refused(tmp_path / "s.tif", "pixels read outside -60…200 °C (down to -9999) while the rest "
+                                 "look right: a no-data value for invalid pixels?")
+
+
+def test_kelvin_under_a_celsius_header_is_named(tmp_path):
+    path = write_export(tmp_path / "k.csv", grid() + 273.15, Dialect(delim=";", header=["Unit: °C"]))
+    _refused(path, "read as °C looks like kelvin: the file or the survey declares the wrong unit")
+
+
+def test_series_frame_in_fahrenheit_is_refused_like_its_view(tmp_path):
+    import shutil
+    from pathlib import Path
+
+    from envelope.survey import load_survey
+    from envelope.views import SurveyFolder
+
+    house = tmp_path / "house"
+    shutil.copytree(Path(__file__).resolve().parents[1] / "example_house", house)
+    frame = house / "series" / "frames" / "study-south-01.tif"
+    tifffile.imwrite(frame, tifffile.imread(frame) * 1.8 + 32.0)
+    s = load_survey(house)
+    data = SurveyFolder(s).open_series(s.series[0])
+    with pytest.raises(SurveyError) as err:
+        for _ in data.frames():
+            pass
+    assert err.value.file == "series/frames/study-south-01.tif"
+    assert 'readings in °F? then set `unit = "F"`' in err.value.detail
+
+
+def test_celsius_under_a_kelvin_header_is_named(tmp_path):
+    path = write_export(tmp_path / "c.csv", grid(), Dialect(delim=";", header=["Unit: K"]))
+    _refused(path, "read as kelvin, the values look like °C")

@@ -117,6 +117,24 @@ BROKEN = [
     ("frozen-export", dict(pixels=np.full((120, 160), 18.25, np.float32)), "every valid pixel reads 18.25 °C"),
     ("probe-far-from-image", dict(toml=_toml("[thermograms.known_length]", "[[thermograms.probes]]\npixel_xy = [30.5, 30.5]\nsurface_c = 64.0\n\n[thermograms.known_length]")),
      "thermograms[room-north].probes[0]: contact probe 0 at (30.5, 30.5) px read 64 °C where the image reads"),
+    ("reflected-typo", dict(toml=_toml("reflected_c = 20.0\ndistance_m", "reflected_c = 60.0\ndistance_m")),
+     "thermograms[0].reflected_c: 60 °C is 39 K above the indoor air (21 °C) for an interior view"),
+    ("reference-points-in-mm", dict(toml=_toml("[thermograms.known_length]\npixel_a = [0, 119.5]\npixel_b = [160, 119.5]\nlength_m = 4.0",
+                                               "[thermograms.reference_points]\npixel_xy = [[0, 0], [160, 0], [160, 120], [0, 120]]\n"
+                                               "metre_xy = [[0, 3000], [4000, 3000], [4000, 0], [0, 0]]")),
+     "reference_points.metre_xy: expected metres on the element plane, within ±100 m (a wall is a few metres); 4000 looks like millimetres"),
+    ("known-length-in-cm", dict(toml=_toml("length_m = 4.0", "length_m = 400")), "centimetres? 400 cm is 4 m"),
+    ("distance-in-cm", dict(toml=_toml("distance_m = 3.0", "distance_m = 300")), "distance_m: expected a value in (0, 200] [m], got 300 — was it given in centimetres? 300 cm is 3 m"),
+    ("wall-tilt-in-radians", dict(toml=_toml('kind = "wall"\n', 'kind = "wall"\ntilt_deg = 1.5708\n')),
+     "elements[0].tilt_deg: a wall stands near 90° from horizontal, got 1.5708° (in radians?"),
+    ("path-with-backslash", dict(toml=_toml('"thermograms/room-north.npy"', '"thermograms\\\\room-north.npy"')),
+     "separate folders with '/'"),
+    ("path-in-wrong-case", dict(toml=_toml('"thermograms/room-north.npy"', '"Thermograms/Room-North.npy"')),
+     "did you mean 'thermograms/room-north.npy'? (letter case matters)"),
+    ("version-in-quotes", dict(toml=_toml("version = 1", 'version = "1"')), "write the number without quotes: 1"),
+    ("tape-outside-image", dict(toml=_toml("[thermograms.known_length]", "[[thermograms.tapes]]\npixel_xy = [1600, 50]\nemissivity = 0.95\n"
+                                                                         "surface_pixel_xy = [30, 50]\n\n[thermograms.known_length]")),
+     "thermograms[room-north].tapes[0].pixel_xy: pixel [1600, 50] lies outside the 160 × 120 px image"),
     ("element-names-differ-in-case", dict(toml=_toml('name = "test-window"', 'name = "Test-Wall"')),
      "elements[1].name: element name 'Test-Wall' differs from 'test-wall' only in letter case"),
 ]
@@ -161,6 +179,15 @@ def test_survey_file_with_bom_crlf_or_tabs_loads_the_same(tmp_path, variant):
     for part in ("site", "conditions", "camera", "climate", "prices", "analysis", "elements",
                  "measures"):
         assert getattr(got, part) == getattr(plain, part), part
+
+
+def test_two_views_naming_one_pixel_file_are_refused(tmp_path):
+    block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
+    text = SURVEY_TOML + "\n" + block.replace('id = "room-north"', 'id = "room-south"')
+    root = write_survey(tmp_path / "s", text)
+    with pytest.raises(SurveyError, match="the same pixel file as thermogram 'room-north'") as err:
+        load_survey(root)
+    assert err.value.field == "thermograms[1].file"
 
 
 def test_thermogram_ids_differing_in_case_are_refused(tmp_path):
