@@ -139,7 +139,7 @@ def _box_of(mask):
     rows = np.flatnonzero(mask.any(axis=1))
     if rows.size == 0:
         return None
-    cols = np.flatnonzero(mask.any(axis=0))
+    cols = np.flatnonzero(mask[rows[0]:rows[-1] + 1].any(axis=0))
     return slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1)
 
 
@@ -296,10 +296,12 @@ class ZoneGeometry:
     areas and labels that `integration_zones` is then given).
 
     Seed k's pixels are ``seed_rows``/``seed_cols`` ``[seed_starts[k]:seed_starts[k + 1]]``
-    (raster order). Inside the slices ``box`` of the frame, ``cell`` holds the seed (1...)
-    nearest to each ring pixel (a valid pixel off every seed within the cut-off), 0
-    elsewhere, and ``ring`` its ring (1 ... ``max_ring``, width ``ring_m`` [m]).
-    ``labels`` and ``area`` are the frame's element labels and pixel areas [m²].
+    (raster order). Inside the slices ``box`` of the frame: ``seed_id`` (seed k + 1, 0
+    off every seed), ``feature`` the (row, column) in the box of each pixel's nearest seed
+    pixel, ``d2`` the squared distance to it [px²], ``valid`` the pixels a zone may take,
+    ``area`` the pixel areas [m²]; ``labels`` the frame's element labels. ``pix_min`` [m]
+    bounds the local pixel size from below (to pick the pixels that may lie within a given
+    ring). The rings themselves are computed on demand (`ring_pixels`).
     """
 
     shape: tuple[int, int]
@@ -309,37 +311,63 @@ class ZoneGeometry:
     seed_rows: np.ndarray
     seed_cols: np.ndarray
     seed_starts: np.ndarray
-    box: tuple[slice, slice]
-    cell: np.ndarray
-    ring: np.ndarray
+    box: tuple[slice, slice] | None
+    seed_id: np.ndarray | None
+    feature: np.ndarray | None
+    d2: np.ndarray | None
+    valid: np.ndarray | None
+    area: np.ndarray | None
     labels: np.ndarray
-    area: np.ndarray
+    pix_min: float
     _inner: dict = field(default_factory=dict, repr=False)
     last_masks: tuple | None = field(default=None, repr=False)
     """The zone masks of the last `integration_zones` pass, with what they were built from."""
 
     def ring_pixels(self, up_to: int) -> tuple:
-        """The ring pixels of rings 1 ... `up_to`, in raster order: ``rows, cols`` (frame),
-        their seed ``cell`` (1...), ``ring``, element label (0 outside every element) and area
-        [m²] (kept for the next pass)."""
-        if up_to not in self._inner:
-            px = np.flatnonzero((self.cell > 0) & (self.ring <= up_to))
-            rr, cc = np.divmod(px, self.cell.shape[1])
+        """The ring pixels of rings 1 ... `up_to` (valid pixels off every seed, nearest to
+        the seed of their cell), in raster order: ``rows, cols`` (frame), their seed
+        ``cell`` (1...), ``ring``, element label (0 outside every element) and area [m²]
+        (kept for the next pass).
+
+        A pixel at distance d [px] from its nearest seed pixel, of local size s [m], is in
+        ring ``ceil(d s / ring_m)`` (capped at ``max_ring + 1``); only the pixels with
+        ``d < (up_to + 1) ring_m / pix_min + 1`` can be in the first `up_to` rings.
+        """
+        if up_to in self._inner:
+            return self._inner[up_to]
+        empty = np.zeros(0, np.intp)
+        if self.box is None:
+            out = (empty, empty, empty, empty, empty, np.zeros(0))
+        else:
+            reach = (up_to + 1) * self.ring_m / self.pix_min + 1.0
+            top = np.iinfo(self.d2.dtype).max
+            near = self.d2 <= (math.ceil(reach * reach) if reach * reach < top else top)
+            px = np.flatnonzero(near & self.valid & (self.seed_id == 0))
+            dist_px = np.sqrt(self.d2.ravel()[px].astype(np.float64))
+            pix = _pixel_size(self.area.ravel()[px], self.ring_m)
+            ring = np.minimum(np.ceil(dist_px * pix / self.ring_m - 1e-9),
+                              self.max_ring + 1).astype(np.int32)
+            keep = (ring > 0) & (ring <= self.max_ring) & (ring <= up_to)
+            px, ring = px[keep], ring[keep]
+            w = self.d2.shape[1]
+            cell = self.seed_id.ravel()[self.feature[0].ravel()[px].astype(np.intp) * w
+                                        + self.feature[1].ravel()[px]]
+            rr, cc = np.divmod(px, self.d2.shape[1])
             rr += self.box[0].start
             cc += self.box[1].start
-            self._inner[up_to] = (rr, cc, self.cell.ravel()[px], self.ring.ravel()[px],
-                                  np.maximum(self.labels[rr, cc], 0), self.area[rr, cc])
-        return self._inner[up_to]
+            out = (rr, cc, cell, ring, np.maximum(self.labels[rr, cc], 0), self.area.ravel()[px])
+        self._inner[up_to] = out
+        return out
 
 
-def _rings(seed_id, valid, area_m2, ring_m: float, max_ring: int):
-    """Nearest seed and ring of the valid pixels off every seed: ``box, cell, ring``.
+def _feature_transform(seed_id, valid):
+    """Nearest seed pixel of every pixel: ``box, feature, d2``.
 
     The exact Euclidean feature transform (Maurer et al. 2003, `scipy.ndimage`) over the
     bounding box of the valid and seed pixels (every seed lies inside it, so each pixel's
-    nearest seed pixel is the one the whole frame gives). Its distance d [px], as
-    `scipy.ndimage.distance_transform_edt` computes it from the feature indices, times the
-    local pixel size s [m] puts a pixel in ring ``ceil(d s / ring_m)``.
+    nearest seed pixel is the one the whole frame gives); ``feature`` the (row, column) in
+    the box of the nearest seed pixel (2, h, w), ``d2`` the squared distance to it [px²], the integers
+    whose square root `scipy.ndimage.distance_transform_edt` returns.
 
     References
     ----------
@@ -351,20 +379,15 @@ def _rings(seed_id, valid, area_m2, ring_m: float, max_ring: int):
     sid = seed_id[box]
     h, w = sid.shape
     ft = ndimage.distance_transform_edt(sid == 0, return_distances=False, return_indices=True)
-    dist = (ft[0] - np.arange(h, dtype=ft.dtype)[:, None]).astype(np.float64)
-    dc = (ft[1] - np.arange(w, dtype=ft.dtype)[None, :]).astype(np.float64)
-    np.multiply(dist, dist, out=dist)
-    np.multiply(dc, dc, out=dc)
-    np.add(dist, dc, out=dist)
-    np.sqrt(dist, out=dist)  # [px]
-    np.multiply(dist, _pixel_size(area_m2[box], ring_m), out=dist)  # [m]
-    np.divide(dist, ring_m, out=dist)
-    np.subtract(dist, 1e-9, out=dist)
-    np.ceil(dist, out=dist)
-    ring = np.minimum(dist, max_ring + 1, out=dist).astype(np.int32)
-    near = np.take(sid, ft[0] * w + ft[1])
-    ok = valid[box] & (sid == 0) & (ring > 0) & (ring <= max_ring)
-    return box, np.where(ok, near, 0), ring
+    wide = np.int32 if h * h + w * w < np.iinfo(np.int32).max else np.int64
+    d2 = ft[0].astype(wide)
+    d2 -= np.arange(h, dtype=wide)[:, None]
+    d2 *= d2
+    dc = ft[1].astype(wide)
+    dc -= np.arange(w, dtype=wide)[None, :]
+    dc *= dc
+    d2 += dc
+    return box, ft, d2
 
 
 def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
@@ -400,13 +423,19 @@ def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
     max_ring = int(math.ceil(cutoff_m / ring_m))
     seed_rows, seed_cols, seed_starts = _seed_pixels(seed_id, n)
     if seed_rows.size in (0, seed_id.size):  # no seed, or nothing but seeds: no ring
-        box = (slice(0, shape[0]), slice(0, shape[1]))
-        cell = np.zeros(shape, np.int32)
-        ring = cell
-    else:
-        box, cell, ring = _rings(seed_id, valid, a, ring_m, max_ring)
-    return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts, box, cell,
-                        ring, labels, a)
+        return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts,
+                            None, None, None, None, None, None, labels, ring_m)
+    box, feature, d2 = _feature_transform(seed_id, valid)
+    valid = valid[box]
+    area = a[box]
+    # a lower bound of the local pixel size: over the whole box (every pixel valid or not)
+    smallest = float(np.nanmin(area)) if np.isfinite(area).any() else math.nan
+    if not smallest > 0:
+        positive = area[np.isfinite(area) & (area > 0)]
+        smallest = float(positive.min()) if positive.size else math.nan
+    pix_min = min(ring_m, math.sqrt(smallest)) if smallest > 0 else ring_m
+    return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts, box,
+                        seed_id[box], feature, d2, valid, area, labels, pix_min)
 
 
 def _first_stop(s_a, s_e, s_v, peak, win: int, noise_z: float, tail_fraction: float,
