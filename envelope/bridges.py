@@ -296,12 +296,10 @@ class ZoneGeometry:
     areas and labels that `integration_zones` is then given).
 
     Seed k's pixels are ``seed_rows``/``seed_cols`` ``[seed_starts[k]:seed_starts[k + 1]]``
-    (raster order). Inside the slices ``box`` of the frame: ``seed_id`` (seed k + 1, 0
-    off every seed), ``feature`` the (row, column) in the box of each pixel's nearest seed
-    pixel, ``d2`` the squared distance to it [px²], ``valid`` the pixels a zone may take,
-    ``area`` the pixel areas [m²]; ``labels`` the frame's element labels. ``pix_min`` [m]
-    bounds the local pixel size from below (to pick the pixels that may lie within a given
-    ring). The rings themselves are computed on demand (`ring_pixels`).
+    (raster order). ``seed_id`` (seed k + 1, 0 off every seed), ``valid`` (the pixels a
+    zone may take), ``area`` [m²] and ``labels`` are full-frame maps; ``pix_min`` [m]
+    bounds the local pixel size from below. The nearest seed of each pixel and the rings
+    are computed on demand, only as far as the rings asked for (`ring_pixels`).
     """
 
     shape: tuple[int, int]
@@ -311,21 +309,19 @@ class ZoneGeometry:
     seed_rows: np.ndarray
     seed_cols: np.ndarray
     seed_starts: np.ndarray
-    box: tuple[slice, slice] | None
-    seed_id: np.ndarray | None
-    feature: np.ndarray | None
-    d2: np.ndarray | None
-    valid: np.ndarray | None
-    area: np.ndarray | None
+    seed_id: np.ndarray
+    valid: np.ndarray
+    area: np.ndarray
     labels: np.ndarray
     pix_min: float
     _inner: dict = field(default_factory=dict, repr=False)
+    _nearest: dict = field(default_factory=dict, repr=False)
     last_masks: tuple | None = field(default=None, repr=False)
     """The zone masks of the last `integration_zones` pass, with what they were built from."""
 
     def ring_pixels(self, up_to: int) -> tuple:
-        """The ring pixels of rings 1 ... `up_to` (valid pixels off every seed, nearest to
-        the seed of their cell), in raster order: ``rows, cols`` (frame), their seed
+        """The ring pixels of rings 1 ... `up_to` (valid pixels off every seed, in the cell
+        of their nearest seed), in raster order: ``rows, cols`` (frame), their seed
         ``cell`` (1...), ``ring``, element label (0 outside every element) and area [m²]
         (kept for the next pass).
 
@@ -336,58 +332,117 @@ class ZoneGeometry:
         if up_to in self._inner:
             return self._inner[up_to]
         empty = np.zeros(0, np.intp)
-        if self.box is None:
+        if self.seed_rows.size in (0, self.seed_id.size):  # no seed, or only seeds: no ring
             out = (empty, empty, empty, empty, empty, np.zeros(0))
         else:
             reach = (up_to + 1) * self.ring_m / self.pix_min + 1.0
-            top = np.iinfo(self.d2.dtype).max
-            near = self.d2 <= (math.ceil(reach * reach) if reach * reach < top else top)
+            near, d2, cell = self.nearest_seed(reach)
+            lim = reach * reach
+            near = near & (d2 <= (math.ceil(lim) if lim < np.iinfo(d2.dtype).max
+                                  else np.iinfo(d2.dtype).max))
             px = np.flatnonzero(near & self.valid & (self.seed_id == 0))
-            dist_px = np.sqrt(self.d2.ravel()[px].astype(np.float64))
+            dist_px = np.sqrt(d2.ravel()[px].astype(np.float64))
             pix = _pixel_size(self.area.ravel()[px], self.ring_m)
             ring = np.minimum(np.ceil(dist_px * pix / self.ring_m - 1e-9),
                               self.max_ring + 1).astype(np.int32)
             keep = (ring > 0) & (ring <= self.max_ring) & (ring <= up_to)
             px, ring = px[keep], ring[keep]
-            w = self.d2.shape[1]
-            cell = self.seed_id.ravel()[self.feature[0].ravel()[px].astype(np.intp) * w
-                                        + self.feature[1].ravel()[px]]
-            rr, cc = np.divmod(px, self.d2.shape[1])
-            rr += self.box[0].start
-            cc += self.box[1].start
-            out = (rr, cc, cell, ring, np.maximum(self.labels[rr, cc], 0), self.area.ravel()[px])
+            rr, cc = np.divmod(px, self.shape[1])
+            out = (rr, cc, cell.ravel()[px], ring, np.maximum(self.labels[rr, cc], 0),
+                   self.area.ravel()[px])
         self._inner[up_to] = out
         return out
 
+    def nearest_seed(self, reach: float) -> tuple:
+        """``known, d2, cell`` (full frame): the squared distance [px²] to the nearest seed
+        pixel and that seed (1...), exact wherever that distance is under `reach` [px] (and
+        never under the true distance where `known`; unknown pixels lie farther).
 
-def _feature_transform(seed_id, valid):
-    """Nearest seed pixel of every pixel: ``box, feature, d2``.
+        The nearest seed pixel is the exact Euclidean feature transform's (Maurer et al.
+        2003, `scipy.ndimage`), the first by (distance, column, row), so it can be taken
+        over windows: every seed pixel within `reach` of a pixel lies in the window of the
+        seeds within `reach` of it (their bounding boxes widened by twice `reach`, merged
+        where they meet). When the windows would cover half the frame or more, one
+        transform over the bounding box of the valid and seed pixels serves every pixel.
 
-    The exact Euclidean feature transform (Maurer et al. 2003, `scipy.ndimage`) over the
-    bounding box of the valid and seed pixels (every seed lies inside it, so each pixel's
-    nearest seed pixel is the one the whole frame gives); ``feature`` the (row, column) in
-    the box of the nearest seed pixel (2, h, w), ``d2`` the squared distance to it [px²], the integers
-    whose square root `scipy.ndimage.distance_transform_edt` returns.
+        References
+        ----------
+        C. R. Maurer, R. Qi and V. Raghavan, "A linear time algorithm for computing exact
+        Euclidean distance transforms of binary images in arbitrary dimensions", IEEE
+        Trans. PAMI 25 (2003) 265–270.
+        """
+        r = int(math.ceil(reach)) if reach < max(self.shape) else max(self.shape)
+        if r in self._nearest:
+            return self._nearest[r]
+        if "all" in self._nearest:
+            return self._nearest["all"]
+        h, w = self.shape
+        windows = []  # [served (r0, r1, c0, c1), window (r0, r1, c0, c1)]
+        for k in range(self.n_seeds):
+            part = slice(self.seed_starts[k], self.seed_starts[k + 1])
+            if self.seed_starts[k + 1] == self.seed_starts[k]:
+                continue
+            rows, cols = self.seed_rows[part], self.seed_cols[part]
+            b = (int(rows.min()), int(rows.max()) + 1, int(cols.min()), int(cols.max()) + 1)
+            windows.append([_widen(b, r, h, w), _widen(b, 2 * r, h, w)])
+        windows = _merge_windows(windows)
+        whole = _box_of(self.valid | (self.seed_id > 0))
+        whole_area = (whole[0].stop - whole[0].start) * (whole[1].stop - whole[1].start)
+        if sum((b[1] - b[0]) * (b[3] - b[2]) for _, b in windows) >= 0.5 * whole_area:
+            windows = [[(whole[0].start, whole[0].stop, whole[1].start, whole[1].stop)] * 2]
+            key = "all"
+        else:
+            key = r
+        known = np.zeros(self.shape, bool)
+        wide = np.int32 if h * h + w * w < np.iinfo(np.int32).max else np.int64
+        d2 = np.zeros(self.shape, wide)
+        cell = np.zeros(self.shape, np.int32)
+        for served, win in windows:
+            sid = self.seed_id[win[0]:win[1], win[2]:win[3]]
+            ft = ndimage.distance_transform_edt(sid == 0, return_distances=False,
+                                                return_indices=True)
+            rs = slice(served[0] - win[0], served[1] - win[0])
+            cs = slice(served[2] - win[2], served[3] - win[2])
+            fr, fc = ft[0][rs, cs], ft[1][rs, cs]
+            dr = fr.astype(wide)
+            dr -= np.arange(rs.start, rs.stop, dtype=wide)[:, None]
+            dc = fc.astype(wide)
+            dc -= np.arange(cs.start, cs.stop, dtype=wide)[None, :]
+            out = (slice(served[0], served[1]), slice(served[2], served[3]))
+            d2[out] = dr * dr + dc * dc
+            cell[out] = np.take(sid, fr.astype(np.intp) * sid.shape[1] + fc)
+            known[out] = True
+        self._nearest[key] = (known, d2, cell)
+        return self._nearest[key]
 
-    References
-    ----------
-    C. R. Maurer, R. Qi and V. Raghavan, "A linear time algorithm for computing exact
-    Euclidean distance transforms of binary images in arbitrary dimensions", IEEE Trans.
-    PAMI 25 (2003) 265–270.
-    """
-    box = _box_of(valid | (seed_id > 0))
-    sid = seed_id[box]
-    h, w = sid.shape
-    ft = ndimage.distance_transform_edt(sid == 0, return_distances=False, return_indices=True)
-    wide = np.int32 if h * h + w * w < np.iinfo(np.int32).max else np.int64
-    d2 = ft[0].astype(wide)
-    d2 -= np.arange(h, dtype=wide)[:, None]
-    d2 *= d2
-    dc = ft[1].astype(wide)
-    dc -= np.arange(w, dtype=wide)[None, :]
-    dc *= dc
-    d2 += dc
-    return box, ft, d2
+
+def _widen(b, r: int, h: int, w: int) -> tuple:
+    """A box ``(r0, r1, c0, c1)`` widened by `r` on every side, within the frame (h, w)."""
+    return max(b[0] - r, 0), min(b[1] + r, h), max(b[2] - r, 0), min(b[3] + r, w)
+
+
+def _merge_windows(windows: list) -> list:
+    """Merge ``[served, window]`` boxes whose windows meet, until none do (the served box
+    of a merge is the bounding box of the served boxes, its window that of the windows)."""
+    out = [list(x) for x in windows]
+    merged = True
+    while merged:
+        merged = False
+        for i in range(len(out)):
+            for j in range(i + 1, len(out)):
+                a, b = out[i][1], out[j][1]
+                if a[0] < b[1] and b[0] < a[1] and a[2] < b[3] and b[2] < a[3]:
+                    sa, sb = out[i][0], out[j][0]
+                    out[i] = [(min(sa[0], sb[0]), max(sa[1], sb[1]), min(sa[2], sb[2]),
+                               max(sa[3], sb[3])),
+                              (min(a[0], b[0]), max(a[1], b[1]), min(a[2], b[2]),
+                               max(a[3], b[3]))]
+                    del out[j]
+                    merged = True
+                    break
+            if merged:
+                break
+    return out
 
 
 def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
@@ -422,20 +477,14 @@ def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
     ring_m = _ring_width(a)
     max_ring = int(math.ceil(cutoff_m / ring_m))
     seed_rows, seed_cols, seed_starts = _seed_pixels(seed_id, n)
-    if seed_rows.size in (0, seed_id.size):  # no seed, or nothing but seeds: no ring
-        return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts,
-                            None, None, None, None, None, None, labels, ring_m)
-    box, feature, d2 = _feature_transform(seed_id, valid)
-    valid = valid[box]
-    area = a[box]
-    # a lower bound of the local pixel size: over the whole box (every pixel valid or not)
-    smallest = float(np.nanmin(area)) if np.isfinite(area).any() else math.nan
+    # a lower bound of the local pixel size, over every pixel (valid or not)
+    smallest = float(np.nanmin(a)) if np.isfinite(a).any() else math.nan
     if not smallest > 0:
-        positive = area[np.isfinite(area) & (area > 0)]
+        positive = a[np.isfinite(a) & (a > 0)]
         smallest = float(positive.min()) if positive.size else math.nan
     pix_min = min(ring_m, math.sqrt(smallest)) if smallest > 0 else ring_m
-    return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts, box,
-                        seed_id[box], feature, d2, valid, area, labels, pix_min)
+    return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts,
+                        seed_id, valid, a, labels, pix_min)
 
 
 def _first_stop(s_a, s_e, s_v, peak, win: int, noise_z: float, tail_fraction: float,
