@@ -292,7 +292,8 @@ def _bbox(mask):
     return slice(rows[0], rows[-1] + 1), slice(cols[0], cols[-1] + 1)
 
 
-def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, extra=None):
+def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, extra=None,
+                    box=None):
     """Label the anomalous regions of one element.
 
     Parameters
@@ -309,6 +310,8 @@ def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, ext
     extra : ndarray, optional
         A second fRsi map on the same pixels (the aligned depressurised image); a pixel is
         anomalous if it is anomalous in either map.
+    box : (slice, slice), optional
+        The bounding box of `mask` when the caller knows it.
 
     Returns
     -------
@@ -321,8 +324,8 @@ def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, ext
     if side not in ("interior", "exterior"):
         raise ValueError(f"side must be one of ['interior', 'exterior'], got {side!r}")
     mask = np.asarray(mask, bool)
-    sl = _bbox(mask)
-    if sl is None:
+    sl = _bbox(mask) if box is None else box
+    if sl is None or sl[0].stop <= sl[0].start:
         return {"level": np.nan, "sigma": np.nan, "threshold": np.nan, "slices": None,
                 "kept": [], "labels": None, "reference": None}
     level, sigma = reference_level(
@@ -352,25 +355,32 @@ def segment_element(frsi, mask, reference_mask, area_map_m2, side, settings, ext
     bad = -cold_dev > thr if side == "interior" else warm_dev > thr
     other = warm_dev > thr if side == "interior" else -cold_dev > thr
     bad = _clean(bad & m, settings) & m
-    other = _clean(other & m & ~bad, settings) & m
     area = np.asarray(area_map_m2, float)[sl]
-    area = np.where(np.isfinite(area), area, 0.0)
     labels = np.zeros(m.shape, dtype=np.int32)
     n = 0
-    for sign, binary in (("cold", bad), ("warm", other)):
+    for sign in ("cold", "warm"):
         if sign == "warm" and (side == "exterior" or not settings.report_warm):
             # only interior warm spots get a note; exterior cold spots are not defects
             continue
+        binary = bad if sign == "cold" else _clean(other & m & ~bad, settings) & m
         if not binary.any():
             continue
         lab, k = ndimage.label(binary)
-        # the area of each label: the sum `scipy.ndimage.sum` takes
-        sizes = np.bincount(lab.ravel(), weights=area.ravel(), minlength=k + 1)[1:]
+        # the area of each label, pixel by pixel in raster order (the sums of
+        # `scipy.ndimage.sum`), over the labelled pixels only
+        a_px = area[binary]
+        sizes = np.bincount(lab[binary], weights=np.where(np.isfinite(a_px), a_px, 0.0),
+                            minlength=k + 1)[1:]
         keep = np.flatnonzero(sizes >= settings.min_area_m2) + 1
-        remap = np.zeros(k + 1, dtype=np.int32)
-        remap[keep] = np.arange(n + 1, n + 1 + keep.size)
-        new = remap[lab]
-        labels = np.where(new > 0, new, labels)
+        if n == 0 and keep.size == k:  # every region kept, numbered as labelled
+            labels = lab
+        else:
+            remap = np.zeros(k + 1, dtype=np.int32)
+            remap[keep] = np.arange(n + 1, n + 1 + keep.size)
+            rr, cc = np.nonzero(binary)
+            new = remap[lab[rr, cc]]
+            took = new > 0
+            labels[rr[took], cc[took]] = new[took]
         tag = sign if side == "interior" else "warm"
         out["kept"].extend((n + 1 + i, tag) for i in range(keep.size))
         n += keep.size

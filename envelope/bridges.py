@@ -139,7 +139,7 @@ def _box_of(mask):
     rows = np.flatnonzero(mask.any(axis=1))
     if rows.size == 0:
         return None
-    cols = np.flatnonzero(mask.any(axis=0))
+    cols = np.flatnonzero(mask[rows[0]:rows[-1] + 1].any(axis=0))
     return slice(int(rows[0]), int(rows[-1]) + 1), slice(int(cols[0]), int(cols[-1]) + 1)
 
 
@@ -296,10 +296,10 @@ class ZoneGeometry:
     areas and labels that `integration_zones` is then given).
 
     Seed k's pixels are ``seed_rows``/``seed_cols`` ``[seed_starts[k]:seed_starts[k + 1]]``
-    (raster order). Inside the slices ``box`` of the frame, ``cell`` holds the seed (1...)
-    nearest to each ring pixel (a valid pixel off every seed within the cut-off), 0
-    elsewhere, and ``ring`` its ring (1 ... ``max_ring``, width ``ring_m`` [m]).
-    ``labels`` and ``area`` are the frame's element labels and pixel areas [m²].
+    (raster order). ``seed_id`` (seed k + 1, 0 off every seed), ``valid`` (the pixels a
+    zone may take), ``area`` [m²] and ``labels`` are full-frame maps; ``pix_min`` [m]
+    bounds the local pixel size from below. The nearest seed of each pixel and the rings
+    are computed on demand, only as far as the rings asked for (`ring_pixels`).
     """
 
     shape: tuple[int, int]
@@ -309,62 +309,140 @@ class ZoneGeometry:
     seed_rows: np.ndarray
     seed_cols: np.ndarray
     seed_starts: np.ndarray
-    box: tuple[slice, slice]
-    cell: np.ndarray
-    ring: np.ndarray
-    labels: np.ndarray
+    seed_id: np.ndarray
+    valid: np.ndarray
     area: np.ndarray
+    labels: np.ndarray
+    pix_min: float
     _inner: dict = field(default_factory=dict, repr=False)
+    _nearest: dict = field(default_factory=dict, repr=False)
     last_masks: tuple | None = field(default=None, repr=False)
     """The zone masks of the last `integration_zones` pass, with what they were built from."""
 
     def ring_pixels(self, up_to: int) -> tuple:
-        """The ring pixels of rings 1 ... `up_to`, in raster order: ``rows, cols`` (frame),
-        their seed ``cell`` (1...), ``ring``, element label (0 outside every element) and area
-        [m²] (kept for the next pass)."""
-        if up_to not in self._inner:
-            px = np.flatnonzero((self.cell > 0) & (self.ring <= up_to))
-            rr, cc = np.divmod(px, self.cell.shape[1])
-            rr += self.box[0].start
-            cc += self.box[1].start
-            self._inner[up_to] = (rr, cc, self.cell.ravel()[px], self.ring.ravel()[px],
-                                  np.maximum(self.labels[rr, cc], 0), self.area[rr, cc])
-        return self._inner[up_to]
+        """The ring pixels of rings 1 ... `up_to` (valid pixels off every seed, in the cell
+        of their nearest seed), in raster order: ``rows, cols`` (frame), their seed
+        ``cell`` (1...), ``ring``, element label (0 outside every element) and area [m²]
+        (kept for the next pass).
+
+        A pixel at distance d [px] from its nearest seed pixel, of local size s [m], is in
+        ring ``ceil(d s / ring_m)`` (capped at ``max_ring + 1``); only the pixels with
+        ``d < (up_to + 1) ring_m / pix_min + 1`` can be in the first `up_to` rings.
+        """
+        if up_to in self._inner:
+            return self._inner[up_to]
+        empty = np.zeros(0, np.intp)
+        if self.seed_rows.size in (0, self.seed_id.size):  # no seed, or only seeds: no ring
+            out = (empty, empty, empty, empty, empty, np.zeros(0))
+        else:
+            reach = (up_to + 1) * self.ring_m / self.pix_min + 1.0
+            near, d2, cell = self.nearest_seed(reach)
+            lim = reach * reach
+            near = near & (d2 <= (math.ceil(lim) if lim < np.iinfo(d2.dtype).max
+                                  else np.iinfo(d2.dtype).max))
+            px = np.flatnonzero(near & self.valid & (self.seed_id == 0))
+            dist_px = np.sqrt(d2.ravel()[px].astype(np.float64))
+            pix = _pixel_size(self.area.ravel()[px], self.ring_m)
+            ring = np.minimum(np.ceil(dist_px * pix / self.ring_m - 1e-9),
+                              self.max_ring + 1).astype(np.int32)
+            keep = (ring > 0) & (ring <= self.max_ring) & (ring <= up_to)
+            px, ring = px[keep], ring[keep]
+            rr, cc = np.divmod(px, self.shape[1])
+            out = (rr, cc, cell.ravel()[px], ring, np.maximum(self.labels[rr, cc], 0),
+                   self.area.ravel()[px])
+        self._inner[up_to] = out
+        return out
+
+    def nearest_seed(self, reach: float) -> tuple:
+        """``known, d2, cell`` (full frame): the squared distance [px²] to the nearest seed
+        pixel and that seed (1...), exact wherever that distance is under `reach` [px] (and
+        never under the true distance where `known`; unknown pixels lie farther).
+
+        The nearest seed pixel is the exact Euclidean feature transform's (Maurer et al.
+        2003, `scipy.ndimage`), the first by (distance, column, row), so it can be taken
+        over windows: every seed pixel within `reach` of a pixel lies in the window of the
+        seeds within `reach` of it (their bounding boxes widened by twice `reach`, merged
+        where they meet). When the windows would cover half the frame or more, one
+        transform over the bounding box of the valid and seed pixels serves every pixel.
+
+        References
+        ----------
+        C. R. Maurer, R. Qi and V. Raghavan, "A linear time algorithm for computing exact
+        Euclidean distance transforms of binary images in arbitrary dimensions", IEEE
+        Trans. PAMI 25 (2003) 265–270.
+        """
+        r = int(math.ceil(reach)) if reach < max(self.shape) else max(self.shape)
+        if r in self._nearest:
+            return self._nearest[r]
+        if "all" in self._nearest:
+            return self._nearest["all"]
+        h, w = self.shape
+        windows = []  # [served (r0, r1, c0, c1), window (r0, r1, c0, c1)]
+        for k in range(self.n_seeds):
+            part = slice(self.seed_starts[k], self.seed_starts[k + 1])
+            if self.seed_starts[k + 1] == self.seed_starts[k]:
+                continue
+            rows, cols = self.seed_rows[part], self.seed_cols[part]
+            b = (int(rows.min()), int(rows.max()) + 1, int(cols.min()), int(cols.max()) + 1)
+            windows.append([_widen(b, r, h, w), _widen(b, 2 * r, h, w)])
+        windows = _merge_windows(windows)
+        whole = _box_of(self.valid | (self.seed_id > 0))
+        whole_area = (whole[0].stop - whole[0].start) * (whole[1].stop - whole[1].start)
+        if sum((b[1] - b[0]) * (b[3] - b[2]) for _, b in windows) >= 0.5 * whole_area:
+            windows = [[(whole[0].start, whole[0].stop, whole[1].start, whole[1].stop)] * 2]
+            key = "all"
+        else:
+            key = r
+        known = np.zeros(self.shape, bool)
+        wide = np.int32 if h * h + w * w < np.iinfo(np.int32).max else np.int64
+        d2 = np.zeros(self.shape, wide)
+        cell = np.zeros(self.shape, np.int32)
+        for served, win in windows:
+            sid = self.seed_id[win[0]:win[1], win[2]:win[3]]
+            ft = ndimage.distance_transform_edt(sid == 0, return_distances=False,
+                                                return_indices=True)
+            rs = slice(served[0] - win[0], served[1] - win[0])
+            cs = slice(served[2] - win[2], served[3] - win[2])
+            fr, fc = ft[0][rs, cs], ft[1][rs, cs]
+            dr = fr.astype(wide)
+            dr -= np.arange(rs.start, rs.stop, dtype=wide)[:, None]
+            dc = fc.astype(wide)
+            dc -= np.arange(cs.start, cs.stop, dtype=wide)[None, :]
+            out = (slice(served[0], served[1]), slice(served[2], served[3]))
+            d2[out] = dr * dr + dc * dc
+            cell[out] = np.take(sid, fr.astype(np.intp) * sid.shape[1] + fc)
+            known[out] = True
+        self._nearest[key] = (known, d2, cell)
+        return self._nearest[key]
 
 
-def _rings(seed_id, valid, area_m2, ring_m: float, max_ring: int):
-    """Nearest seed and ring of the valid pixels off every seed: ``box, cell, ring``.
+def _widen(b, r: int, h: int, w: int) -> tuple:
+    """A box ``(r0, r1, c0, c1)`` widened by `r` on every side, within the frame (h, w)."""
+    return max(b[0] - r, 0), min(b[1] + r, h), max(b[2] - r, 0), min(b[3] + r, w)
 
-    The exact Euclidean feature transform (Maurer et al. 2003, `scipy.ndimage`) over the
-    bounding box of the valid and seed pixels (every seed lies inside it, so each pixel's
-    nearest seed pixel is the one the whole frame gives). Its distance d [px], as
-    `scipy.ndimage.distance_transform_edt` computes it from the feature indices, times the
-    local pixel size s [m] puts a pixel in ring ``ceil(d s / ring_m)``.
 
-    References
-    ----------
-    C. R. Maurer, R. Qi and V. Raghavan, "A linear time algorithm for computing exact
-    Euclidean distance transforms of binary images in arbitrary dimensions", IEEE Trans.
-    PAMI 25 (2003) 265–270.
-    """
-    box = _box_of(valid | (seed_id > 0))
-    sid = seed_id[box]
-    h, w = sid.shape
-    ft = ndimage.distance_transform_edt(sid == 0, return_distances=False, return_indices=True)
-    dist = (ft[0] - np.arange(h, dtype=ft.dtype)[:, None]).astype(np.float64)
-    dc = (ft[1] - np.arange(w, dtype=ft.dtype)[None, :]).astype(np.float64)
-    np.multiply(dist, dist, out=dist)
-    np.multiply(dc, dc, out=dc)
-    np.add(dist, dc, out=dist)
-    np.sqrt(dist, out=dist)  # [px]
-    np.multiply(dist, _pixel_size(area_m2[box], ring_m), out=dist)  # [m]
-    np.divide(dist, ring_m, out=dist)
-    np.subtract(dist, 1e-9, out=dist)
-    np.ceil(dist, out=dist)
-    ring = np.minimum(dist, max_ring + 1, out=dist).astype(np.int32)
-    near = np.take(sid, ft[0] * w + ft[1])
-    ok = valid[box] & (sid == 0) & (ring > 0) & (ring <= max_ring)
-    return box, np.where(ok, near, 0), ring
+def _merge_windows(windows: list) -> list:
+    """Merge ``[served, window]`` boxes whose windows meet, until none do (the served box
+    of a merge is the bounding box of the served boxes, its window that of the windows)."""
+    out = [list(x) for x in windows]
+    merged = True
+    while merged:
+        merged = False
+        for i in range(len(out)):
+            for j in range(i + 1, len(out)):
+                a, b = out[i][1], out[j][1]
+                if a[0] < b[1] and b[0] < a[1] and a[2] < b[3] and b[2] < a[3]:
+                    sa, sb = out[i][0], out[j][0]
+                    out[i] = [(min(sa[0], sb[0]), max(sa[1], sb[1]), min(sa[2], sb[2]),
+                               max(sa[3], sb[3])),
+                              (min(a[0], b[0]), max(a[1], b[1]), min(a[2], b[2]),
+                               max(a[3], b[3]))]
+                    del out[j]
+                    merged = True
+                    break
+            if merged:
+                break
+    return out
 
 
 def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
@@ -399,14 +477,14 @@ def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
     ring_m = _ring_width(a)
     max_ring = int(math.ceil(cutoff_m / ring_m))
     seed_rows, seed_cols, seed_starts = _seed_pixels(seed_id, n)
-    if seed_rows.size in (0, seed_id.size):  # no seed, or nothing but seeds: no ring
-        box = (slice(0, shape[0]), slice(0, shape[1]))
-        cell = np.zeros(shape, np.int32)
-        ring = cell
-    else:
-        box, cell, ring = _rings(seed_id, valid, a, ring_m, max_ring)
-    return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts, box, cell,
-                        ring, labels, a)
+    # a lower bound of the local pixel size, over every pixel (valid or not)
+    smallest = float(np.nanmin(a)) if np.isfinite(a).any() else math.nan
+    if not smallest > 0:
+        positive = a[np.isfinite(a) & (a > 0)]
+        smallest = float(positive.min()) if positive.size else math.nan
+    pix_min = min(ring_m, math.sqrt(smallest)) if smallest > 0 else ring_m
+    return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts,
+                        seed_id, valid, a, labels, pix_min)
 
 
 def _first_stop(s_a, s_e, s_v, peak, win: int, noise_z: float, tail_fraction: float,

@@ -29,7 +29,6 @@ from __future__ import annotations
 
 import numpy as np
 import shapely
-from scipy import ndimage
 
 from envelope import bridges, infiltration
 from envelope.anomalies import (
@@ -105,13 +104,34 @@ def _label_box(labels, i: int, box):
             slice(c0 + inner[1].start, c0 + inner[1].stop))
 
 
+def _label_boxes(labels, n: int) -> list:
+    """Bounding slices of labels 1 ... n (None for an absent label), as
+    `scipy.ndimage.find_objects` gives them, from the labelled pixels only."""
+    rr, cc = np.nonzero(labels)
+    ids = labels[rr, cc]
+    keep = ids <= n
+    rr, cc, ids = rr[keep], cc[keep], ids[keep]
+    order = np.argsort(ids, kind="stable")
+    rr, cc, ids = rr[order], cc[order], ids[order]
+    starts = np.searchsorted(ids, np.arange(1, n + 2))
+    out = []
+    for k in range(n):
+        a, b = starts[k], starts[k + 1]
+        if a == b:
+            out.append(None)
+            continue
+        r, c = rr[a:b], cc[a:b]
+        out.append((slice(int(r.min()), int(r.max()) + 1), slice(int(c.min()), int(c.max()) + 1)))
+    return out
+
+
 def _label_sums(labels, mask, weights, n: int) -> np.ndarray:
     """``np.bincount`` of the labels under `mask` (optionally weighted), length `n`; the
     pixels are taken in raster order either way, so the sums do not depend on the path."""
-    if mask.all():
-        return np.bincount(labels.ravel(), None if weights is None else weights.ravel(),
-                           minlength=n)
-    return np.bincount(labels[mask], None if weights is None else weights[mask], minlength=n)
+    lab = labels if mask.all() else np.where(mask, labels, n)  # the others in a bin past n
+    with np.errstate(invalid="ignore"):
+        return np.bincount(lab.ravel(), None if weights is None else weights.ravel(),
+                           minlength=n + 1)[:n]
 
 
 def _pair_args(pair):
@@ -256,7 +276,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
             q_ref[i], q_sig[i], _ = bridges.reference_flux(q, area, el.mask)
             continue
         seg = segment_element(f, el.mask, el.reference_mask, area, side, settings,
-                              extra=frsi_dep if use_pair else None)
+                              extra=frsi_dep if use_pair else None, box=own_zone[i].slices)
         sl = seg["slices"]
         if seg["reference"] is not None:
             q_ref[i], q_sig[i], _ = bridges.reference_flux(q[sl], area[sl], seg["reference"])
@@ -265,7 +285,7 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
         labels_el = seg["labels"]
         if labels_el is None or not seg["kept"]:
             continue
-        objs = ndimage.find_objects(labels_el)
+        objs = _label_boxes(labels_el, max(lab for lab, _ in seg["kept"]))
         described = []
         for lab, sign in seg["kept"]:
             o = objs[lab - 1]
@@ -345,8 +365,12 @@ def find_defects(t_s_c, frsi, q_w_m2, area_map_m2, regions, side, delta_t_k, hdd
     grow = [True] * len(grouped) + [False] * len(warm)
     ref_notes: dict[int, str] = {}
     zones: list[bridges.Zone] = []
-    boxes = [_label_box(labels, i, z.slices) for i, z in enumerate(own_zone)]
-    labelled_q = (labels >= 0) & np.isfinite(q)
+    labelled = labels >= 0
+    if sum(int(np.count_nonzero(z.mask)) for z in own_zone) == np.count_nonzero(labelled):
+        boxes = [z.slices if z.mask.size else None for z in own_zone]  # no two overlap
+    else:
+        boxes = [_label_box(labels, i, z.slices) for i, z in enumerate(own_zone)]
+    labelled_q = labelled & np.isfinite(q)
     n_valid = _label_sums(labels, labelled_q, None, n_el)
     geometry = bridges.zone_geometry(seeds, area, labels, allowed, q, settings.cutoff_m)
     for _ in range(ZONE_PASSES):

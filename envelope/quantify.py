@@ -139,12 +139,13 @@ class Defect:
 @dataclass
 class Group:
     """Regions that become one defect, before quantification: indices into the cold
-    regions, the kind of group ("single", "repeating", "junction"), the seed (bool, full
-    frame), its junction and its run along it ``(ux, uy, lo, hi)`` [px]."""
+    regions, the kind of group ("single", "repeating", "junction"), the seed (a
+    `envelope.bridges.Zone`: its pixels inside their bounding box), its junction and its
+    run along it ``(ux, uy, lo, hi)`` [px]."""
 
     members: list[int]
     kind: str  # "single", "repeating", "junction", "warm"
-    seed: np.ndarray
+    seed: bridges.Zone
     junction: object = None
     along: tuple | None = None
 
