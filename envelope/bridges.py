@@ -275,18 +275,13 @@ def _boxed_seed(seed, shape, k: int):
 
 
 def _seed_pixels(seed_id, n: int):
-    """Rows and columns of each seed's pixels (raster order): ``rows, cols, starts`` with seed
-    k at ``[starts[k]:starts[k + 1]]``."""
-    box = _box_of(seed_id > 0)
-    if box is None:
-        empty = np.zeros(0, np.intp)
-        return empty, empty, np.zeros(n + 1, np.intp)
-    sub = seed_id[box]
-    rr, cc = np.nonzero(sub)
-    ids = sub[rr, cc]
-    order = np.argsort(ids, kind="stable")
-    starts = np.searchsorted(ids[order], np.arange(1, n + 2))
-    return rr[order] + box[0].start, cc[order] + box[1].start, starts
+    """Flat indices of each seed's pixels (raster order): ``px, starts`` with seed k at
+    ``px[starts[k]:starts[k + 1]]``."""
+    flat = seed_id.ravel()
+    px = np.flatnonzero(flat)
+    order = np.argsort(flat[px], kind="stable")
+    px = px[order]
+    return px, np.searchsorted(flat[px], np.arange(1, n + 2))
 
 
 @dataclass
@@ -295,17 +290,19 @@ class ZoneGeometry:
     the passes of `envelope.defects.find_defects`; built by `zone_geometry` from the pixel
     areas and labels that `integration_zones` is then given).
 
-    Seed k's pixels are ``seed_rows``/``seed_cols`` ``[seed_starts[k]:seed_starts[k + 1]]``
-    (raster order). ``seed_id`` (seed k + 1, 0 off every seed), ``valid`` (the pixels a
-    zone may take), ``area`` [m²] and ``labels`` are full-frame maps; ``pix_min`` [m]
-    bounds the local pixel size from below. The nearest seed of each pixel and the rings
-    are computed on demand, only as far as the rings asked for (`ring_pixels`).
+    Seed k's pixels are ``seed_px[seed_starts[k]:seed_starts[k + 1]]`` (flat indices into
+    the frame, raster order; ``seed_rows``, ``seed_cols`` the same pixels). ``seed_id``
+    (seed k + 1, 0 off every seed), ``valid`` (the pixels a zone may take), ``area`` [m²]
+    and ``labels`` are full-frame maps; ``pix_min`` [m] bounds the local pixel size from
+    below. The nearest seed of each pixel and the rings are computed on demand, only as
+    far as the rings asked for (`ring_pixels`).
     """
 
     shape: tuple[int, int]
     ring_m: float
     max_ring: int
     n_seeds: int
+    seed_px: np.ndarray
     seed_rows: np.ndarray
     seed_cols: np.ndarray
     seed_starts: np.ndarray
@@ -322,8 +319,8 @@ class ZoneGeometry:
     def ring_pixels(self, up_to: int) -> tuple:
         """The ring pixels of rings 1 ... `up_to` (valid pixels off every seed, in the cell
         of their nearest seed), in raster order: ``rows, cols`` (frame), their seed
-        ``cell`` (1...), ``ring``, element label (0 outside every element) and area [m²]
-        (kept for the next pass).
+        ``cell`` (1...), ``ring``, element label (0 outside every element), area [m²] and
+        flat index (kept for the next pass).
 
         A pixel at distance d [px] from its nearest seed pixel, of local size s [m], is in
         ring ``ceil(d s / ring_m)`` (capped at ``max_ring + 1``); only the pixels with
@@ -333,7 +330,7 @@ class ZoneGeometry:
             return self._inner[up_to]
         empty = np.zeros(0, np.intp)
         if self.seed_rows.size in (0, self.seed_id.size):  # no seed, or only seeds: no ring
-            out = (empty, empty, empty, empty, empty, np.zeros(0))
+            out = (empty, empty, empty, empty, empty, np.zeros(0), empty)
         else:
             reach = (up_to + 1) * self.ring_m / self.pix_min + 1.0
             near, d2, cell = self.nearest_seed(reach)
@@ -348,8 +345,8 @@ class ZoneGeometry:
             keep = (ring > 0) & (ring <= self.max_ring) & (ring <= up_to)
             px, ring = px[keep], ring[keep]
             rr, cc = np.divmod(px, self.shape[1])
-            out = (rr, cc, cell.ravel()[px], ring, np.maximum(self.labels[rr, cc], 0),
-                   self.area.ravel()[px])
+            out = (rr, cc, cell.ravel()[px], ring, np.maximum(np.take(self.labels, px), 0),
+                   self.area.ravel()[px], px)
         self._inner[up_to] = out
         return out
 
@@ -476,14 +473,15 @@ def zone_geometry(seeds, area_map_m2, labels, allowed=None, q_w_m2=None,
         valid &= np.asarray(allowed, bool)
     ring_m = _ring_width(a)
     max_ring = int(math.ceil(cutoff_m / ring_m))
-    seed_rows, seed_cols, seed_starts = _seed_pixels(seed_id, n)
+    seed_px, seed_starts = _seed_pixels(seed_id, n)
+    seed_rows, seed_cols = np.divmod(seed_px, shape[1])
     # a lower bound of the local pixel size, over every pixel (valid or not)
     smallest = float(np.nanmin(a)) if np.isfinite(a).any() else math.nan
     if not smallest > 0:
         positive = a[np.isfinite(a) & (a > 0)]
         smallest = float(positive.min()) if positive.size else math.nan
     pix_min = min(ring_m, math.sqrt(smallest)) if smallest > 0 else ring_m
-    return ZoneGeometry(shape, ring_m, max_ring, n, seed_rows, seed_cols, seed_starts,
+    return ZoneGeometry(shape, ring_m, max_ring, n, seed_px, seed_rows, seed_cols, seed_starts,
                         seed_id, valid, a, labels, pix_min)
 
 
@@ -607,8 +605,7 @@ def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_
     win = max(1, int(round(ring_window_m / g.ring_m)))
     sig2 = np.where(np.isfinite(q_sig), q_sig, 0.0) ** 2
     # each seed's excess [W/m²]: area-weighted over its valid pixels
-    lab = labels[g.seed_rows, g.seed_cols]
-    qs, as_ = q[g.seed_rows, g.seed_cols], a[g.seed_rows, g.seed_cols]
+    lab, qs, as_ = (np.take(m, g.seed_px) for m in (labels, q, a))
     ok = (lab >= 0) & np.isfinite(qs) & np.isfinite(as_)
     exc = qs - q_ref[np.where(lab >= 0, lab, 0)]
     peak = np.full(n, np.nan)
@@ -626,11 +623,11 @@ def integration_zones(q_w_m2, area_map_m2, seeds, labels, q_ref_w_m2, q_sigma_w_
     # how many rings are summed)
     top = min(win, g.max_ring)
     while True:
-        rr, cc, cell, ring, lab, av = g.ring_pixels(top)
+        _, _, cell, ring, lab, av, px = g.ring_pixels(top)
         bins = (cell - 1).astype(np.intp) * (top + 2) + ring
         size = n * (top + 2)
         s_a, s_e, s_v = (np.bincount(bins, weights=wt, minlength=size).reshape(n, top + 2)
-                         for wt in (av, (q[rr, cc] - q_ref[lab]) * av, sig2[lab] * av * av))
+                         for wt in (av, (np.take(q, px) - q_ref[lab]) * av, sig2[lab] * av * av))
         r_stop, reasons = _first_stop(s_a, s_e, s_v, peak, win, noise_z, tail_fraction,
                                       g.max_ring)
         if top >= g.max_ring or all(r is not None for r, gk in zip(r_stop, grown, strict=True)

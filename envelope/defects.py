@@ -107,8 +107,9 @@ def _label_box(labels, i: int, box):
 def _label_boxes(labels, n: int) -> list:
     """Bounding slices of labels 1 ... n (None for an absent label), as
     `scipy.ndimage.find_objects` gives them, from the labelled pixels only."""
-    rr, cc = np.nonzero(labels)
-    ids = labels[rr, cc]
+    px = np.flatnonzero(labels)
+    ids = labels.ravel()[px]
+    rr, cc = np.divmod(px, labels.shape[1])
     keep = ids <= n
     rr, cc, ids = rr[keep], cc[keep], ids[keep]
     order = np.argsort(ids, kind="stable")
