@@ -181,19 +181,22 @@ def test_survey_file_with_bom_crlf_or_tabs_loads_the_same(tmp_path, variant):
         assert getattr(got, part) == getattr(plain, part), part
 
 
-def test_two_views_naming_one_pixel_file_are_refused(tmp_path):
+def _second_view(tmp_path, new_id):
+    """The test survey with its thermogram block repeated under id `new_id` (same file)."""
     block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
-    text = SURVEY_TOML + "\n" + block.replace('id = "room-north"', 'id = "room-south"')
-    root = write_survey(tmp_path / "s", text)
+    text = SURVEY_TOML + "\n" + block.replace('id = "room-north"', f'id = "{new_id}"')
+    return write_survey(tmp_path / "s", text)
+
+
+def test_two_views_naming_one_pixel_file_are_refused(tmp_path):
+    root = _second_view(tmp_path, "room-south")
     with pytest.raises(SurveyError, match="the same pixel file as thermogram 'room-north'") as err:
         load_survey(root)
     assert err.value.field == "thermograms[1].file"
 
 
 def test_thermogram_ids_differing_in_case_are_refused(tmp_path):
-    block = SURVEY_TOML[SURVEY_TOML.index("[[thermograms]]"): SURVEY_TOML.index("[[measures]]")]
-    text = SURVEY_TOML + "\n" + block.replace('id = "room-north"', 'id = "Room-North"')
-    root = write_survey(tmp_path / "s", text)
+    root = _second_view(tmp_path, "Room-North")
     with pytest.raises(SurveyError, match="differs from 'room-north' only in letter case") as err:
         load_survey(root)
     assert err.value.field == "thermograms[1].id"
