@@ -49,3 +49,20 @@ def raised_at(exc: BaseException) -> str:
     if tb is None:
         return "an unknown place"
     return f"{Path(tb.tb_frame.f_code.co_filename).name}:{tb.tb_lineno}"
+
+
+def celsius_slip(v: float, lo: float, hi: float) -> tuple[str, float] | None:
+    """A °C value above its range ``[lo, hi]`` that fits it once read as kelvin or °F:
+    ``("K", °C)`` or ``("°F", °C)``, else None. For messages that name the likely slip.
+
+    >>> celsius_slip(293.15, -30.0, 40.0)
+    ('K', 20.0)
+    >>> celsius_slip(70.0, 10.0, 35.0)[0]
+    '°F'
+    """
+    if v <= hi:
+        return None
+    if 200.0 <= v <= 400.0 and lo <= v - 273.15 <= hi:
+        return "K", round(v - 273.15, 10)
+    c = (v - 32.0) * 5.0 / 9.0
+    return ("°F", c) if lo <= c <= hi else None

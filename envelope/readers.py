@@ -26,7 +26,7 @@ from pathlib import Path
 import numpy as np
 
 from .constants import T0_K
-from .errors import SurveyError
+from .errors import SurveyError, celsius_slip
 
 __all__ = [
     "Export", "DeclarationNeeded", "read_export", "load_pixels", "check_view_readings",
@@ -615,11 +615,12 @@ def load_air_log(path, label: str | None = None):
 
 def _unit_slip(v: float, lo: float, hi: float) -> str:
     """A likely unit slip for a logged temperature out of range, or ""."""
-    if 200.0 <= v <= 400.0 and lo <= v - T0_K <= hi:
-        return f"; logged in kelvin? {v:g} K is {v - T0_K:.2f} °C: the columns are in °C"
-    if v > hi and lo <= (v - 32.0) * 5.0 / 9.0 <= hi:
-        return f"; logged in °F? {v:g} °F is {(v - 32.0) * 5.0 / 9.0:.1f} °C: the columns are in °C"
-    return ""
+    slip = celsius_slip(v, lo, hi)
+    if slip is None:
+        return ""
+    unit, c = slip
+    name = "kelvin" if unit == "K" else unit
+    return f"; logged in {name}? {v:g} {unit} is {c:.{2 if unit == 'K' else 1}f} °C: the columns are in °C"
 
 
 def _check_log_order(times, name: str) -> None:

@@ -15,7 +15,7 @@ import math
 import re
 import unicodedata
 
-from .errors import SurveyError
+from .errors import SurveyError, celsius_slip
 from .survey import MAX_ID_CHARS, MAX_TEXT_CHARS, PLACEHOLDER
 
 __all__ = ["Table", "REQUIRED", "check_identifier", "check_text", "short"]
@@ -287,13 +287,12 @@ def _text_hint(v, unit: str, hi: float) -> str:
 def _range_hint(v: float, lo: float, hi: float, unit: str) -> str:
     """A likely slip for a number out of range: kelvin or °F for °C, percent for a fraction."""
     u = unit.strip()
-    if u == "°C" and v > hi:
-        c = v - 273.15
-        if 200.0 <= v <= 400.0 and lo <= c <= hi:
+    slip = celsius_slip(v, lo, hi) if u == "°C" else None
+    if slip is not None:
+        unit, c = slip
+        if unit == "K":
             return f" — was it given in kelvin? {v:g} K is {c:.2f} °C"
-        c = (v - 32.0) * 5.0 / 9.0
-        if lo <= c <= hi:
-            return f" — was it given in °F? {v:g} °F is {c:.1f} °C"
+        return f" — was it given in °F? {v:g} °F is {c:.1f} °C"
     if u == "m" and v > hi:
         for div, name in ((100.0, "centimetres"), (1000.0, "millimetres")):
             if lo < v / div <= hi:
